@@ -1,0 +1,173 @@
+"""Configuration: defaults, thresholds (data, read once) and user overrides.
+
+A configuration file is YAML (``deckwarden.yaml`` or ``.deckwarden.yaml``), found in the
+current folder or above it, or named with ``--config``. Keys::
+
+    fail_on: error            # error | warning | note
+    dialect: {keyword: calculix, bulk: mystran}
+    rules: {elastic/poisson-negative: off, units/implausible: note}
+    select: [elastic, model/undefined-material]   # only these (families or ids)
+    ignore: [units]
+    thresholds: {elastic: {near_incompressible_nu: 0.49}}
+    units: mm-tonne-s         # declare the unit system instead of inferring it
+    solver_cwd: run/          # resolve keyword *INCLUDE as the solver would from this folder
+    include_root: .           # includes may not leave this folder ...
+    allow_include_outside: false   # ... unless this is true
+    max_include_depth: 16
+    max_file_size_mb: 4096
+    jobs: 1
+"""
+from __future__ import annotations
+
+import copy
+import functools
+import os
+from dataclasses import dataclass, field
+from importlib import resources
+from pathlib import Path
+from typing import Any, Optional
+
+from .findings import SEVERITIES
+from .safe_yaml import load_yaml_file, load_yaml_text
+
+CONFIG_NAMES = ("deckwarden.yaml", ".deckwarden.yaml")
+DEFAULT_DIALECTS = {"keyword": "calculix", "bulk": "mystran"}
+
+
+class ConfigError(ValueError):
+    pass
+
+
+@functools.cache
+def default_thresholds() -> dict[str, Any]:
+    text = resources.files("linter").joinpath("data/thresholds.yaml").read_text(encoding="utf-8")
+    return load_yaml_text(text, "thresholds.yaml")
+
+
+def _merge(base: dict, over: dict) -> dict:
+    out = copy.deepcopy(base)
+    for k, v in over.items():
+        if isinstance(v, dict) and isinstance(out.get(k), dict):
+            out[k] = _merge(out[k], v)
+        else:
+            out[k] = v
+    return out
+
+
+@dataclass
+class Config:
+    fail_on: str = "error"
+    dialects: dict[str, str] = field(default_factory=lambda: dict(DEFAULT_DIALECTS))
+    rules: dict[str, str] = field(default_factory=dict)
+    select: list[str] = field(default_factory=list)
+    ignore: list[str] = field(default_factory=list)
+    thresholds: dict[str, Any] = field(default_factory=default_thresholds)
+    units: Optional[str] = None
+    solver_cwd: Optional[str] = None
+    include_root: Optional[str] = None
+    allow_include_outside: bool = False
+    max_include_depth: int = 16
+    max_file_size_mb: float = 4096.0
+    jobs: int = 1
+    #: the file this configuration came from (None: defaults)
+    source: Optional[str] = None
+
+    # -- queries used by the engine ------------------------------------------------------
+
+    def threshold(self, dotted: str) -> Any:
+        node: Any = self.thresholds
+        for part in dotted.split("."):
+            if not isinstance(node, dict) or part not in node:
+                raise KeyError(f"unknown threshold {dotted!r}")
+            node = node[part]
+        return node
+
+    def rule_enabled(self, rule_id: str) -> bool:
+        family = rule_id.split("/", 1)[0]
+        if str(self.rules.get(rule_id, "")).lower() in ("off", "false", "none"):
+            return False
+        if self.select and not any(s in (rule_id, family) for s in self.select):
+            return False
+        if any(s in (rule_id, family) for s in self.ignore):
+            return False
+        return True
+
+    def severity_override(self, rule_id: str) -> Optional[str]:
+        sev = self.rules.get(rule_id)
+        return sev if sev in SEVERITIES else None
+
+    def dialect_for(self, fmt: str) -> str:
+        return self.dialects.get(fmt) or DEFAULT_DIALECTS.get(fmt, fmt)
+
+    @property
+    def max_file_size(self) -> int:
+        return int(self.max_file_size_mb * 1024 * 1024)
+
+    # -- construction --------------------------------------------------------------------
+
+    @classmethod
+    def from_mapping(cls, data: dict[str, Any], source: Optional[str] = None) -> "Config":
+        if data is None:
+            data = {}
+        if not isinstance(data, dict):
+            raise ConfigError(f"{source or 'configuration'}: the top level must be a mapping")
+        cfg = cls(source=source)
+        known = set(cls.__dataclass_fields__) - {"source", "dialects"} | {"dialect"}
+        unknown = set(data) - known
+        if unknown:
+            raise ConfigError(f"{source or 'configuration'}: unknown key(s): {', '.join(sorted(unknown))}")
+        for key, value in data.items():
+            if key == "dialect":
+                if isinstance(value, str):
+                    cfg.dialects = {k: value for k in DEFAULT_DIALECTS}
+                elif isinstance(value, dict):
+                    cfg.dialects.update({str(k): str(v) for k, v in value.items()})
+                else:
+                    raise ConfigError(f"{source}: 'dialect' must be a name or a mapping format -> dialect")
+            elif key == "thresholds":
+                if not isinstance(value, dict):
+                    raise ConfigError(f"{source}: 'thresholds' must be a mapping")
+                cfg.thresholds = _merge(default_thresholds(), value)
+            elif key == "rules":
+                if not isinstance(value, dict):
+                    raise ConfigError(f"{source}: 'rules' must map rule ids to a severity or off")
+                cfg.rules = {str(k): ("off" if v is False else str(v).lower()) for k, v in value.items()}
+            elif key in ("select", "ignore"):
+                setattr(cfg, key, [value] if isinstance(value, str) else [str(v) for v in value or ()])
+            else:
+                setattr(cfg, key, value)
+        if cfg.fail_on not in SEVERITIES:
+            raise ConfigError(f"{source or 'configuration'}: fail_on must be one of {', '.join(SEVERITIES)}")
+        if source and cfg.include_root is not None:
+            cfg.include_root = str((Path(source).parent / cfg.include_root).resolve())
+        if source and cfg.solver_cwd is not None:
+            cfg.solver_cwd = str((Path(source).parent / cfg.solver_cwd).resolve())
+        return cfg
+
+    @classmethod
+    def load(cls, path: Optional[str] = None, start: Optional[str] = None) -> "Config":
+        """Load ``path``, or the first configuration file found from ``start`` (default: cwd) upwards."""
+        if path is None:
+            found = find_config(start or os.getcwd())
+            if found is None:
+                return cls()
+            path = str(found)
+        try:
+            data = load_yaml_file(path)
+        except OSError as exc:
+            raise ConfigError(f"{path}: cannot read the configuration ({exc.strerror or exc})") from None
+        except ValueError as exc:
+            raise ConfigError(str(exc)) from None
+        return cls.from_mapping(data or {}, source=str(path))
+
+
+def find_config(start: str) -> Optional[Path]:
+    here = Path(start).resolve()
+    if here.is_file():
+        here = here.parent
+    for folder in (here, *here.parents):
+        for name in CONFIG_NAMES:
+            cand = folder / name
+            if cand.is_file():
+                return cand
+    return None

@@ -1,0 +1,97 @@
+"""Findings and per-file reports: what rules produce and reporters consume.
+
+Reporters never see the neutral model; they get :class:`FileReport` objects,
+which are plain data and pickle cleanly (for ``--jobs``).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any, Optional
+
+SEVERITIES = ("error", "warning", "note")
+SEVERITY_RANK = {"error": 3, "warning": 2, "note": 1}
+
+
+@dataclass(slots=True)
+class Finding:
+    """One defect, located.
+
+    ``data`` holds the numbers behind the message (documented per rule).
+    ``defect`` identifies the root cause; ``restates`` lists root causes this
+    finding merely follows from: the runner drops a finding when any defect it
+    restates was reported by another finding (one defect gives one finding).
+    """
+
+    rule: str
+    severity: str
+    message: str
+    path: Optional[str]
+    line: Optional[int]
+    material: Optional[str] = None
+    data: dict[str, Any] = field(default_factory=dict)
+    defect: Optional[tuple] = None
+    restates: tuple = ()
+
+    def sort_key(self) -> tuple:
+        return (self.path or "", self.line or 0, -SEVERITY_RANK.get(self.severity, 0), self.rule)
+
+    def to_dict(self) -> dict[str, Any]:
+        return {
+            "rule": self.rule,
+            "severity": self.severity,
+            "path": self.path,
+            "line": self.line,
+            "material": self.material,
+            "message": self.message,
+            "data": self.data,
+        }
+
+
+@dataclass
+class FileReport:
+    """Everything a reporter needs about one top-level deck."""
+
+    path: str
+    format: Optional[str]
+    dialect: Optional[str]
+    materials: list[dict[str, Any]] = field(default_factory=list)
+    unchecked: list[dict[str, Any]] = field(default_factory=list)
+    findings: list[Finding] = field(default_factory=list)
+    #: e.g. {"name": "mm-tonne-s", "confidence": 0.8}
+    unit_system: Optional[dict[str, Any]] = None
+    summary: dict[str, Any] = field(default_factory=dict)
+    #: the check of this file is incomplete (unreadable, internal failure, refused include ...)
+    incomplete: bool = False
+    seconds: float = 0.0
+
+    def to_dict(self) -> dict[str, Any]:
+        out: dict[str, Any] = {
+            "path": self.path,
+            "format": self.format,
+            "dialect": self.dialect,
+            "materials": self.materials,
+            "unchecked": self.unchecked,
+        }
+        if self.unit_system is not None:
+            out["unit_system"] = self.unit_system
+        if self.summary:
+            out["summary"] = self.summary
+        out["incomplete"] = self.incomplete
+        return out
+
+
+@dataclass
+class RunResult:
+    files: list[FileReport] = field(default_factory=list)
+    #: findings not tied to a deck (a path that does not exist, ...)
+    general: list[Finding] = field(default_factory=list)
+    #: problems that make the run incomplete (exit code 2)
+    incomplete: bool = False
+    dialects: dict[str, str] = field(default_factory=dict)
+
+    @property
+    def findings(self) -> list[Finding]:
+        out = list(self.general)
+        for f in self.files:
+            out.extend(f.findings)
+        return out

@@ -1,0 +1,50 @@
+"""YAML loading for configuration files: safe loader, size limit, no aliases.
+
+PyYAML has no limit of its own on document size or alias expansion, so the
+loader subclasses ``yaml.SafeLoader`` and refuses anchors/aliases outright.
+"""
+from __future__ import annotations
+
+import yaml
+
+MAX_YAML_BYTES = 1 << 20  # 1 MiB is far more than any configuration needs
+
+
+class YamlRefused(ValueError):
+    pass
+
+
+class _NoAliasLoader(yaml.SafeLoader):
+    def compose_node(self, parent, index):  # type: ignore[override]
+        if self.check_event(yaml.events.AliasEvent):
+            event = self.peek_event()
+            raise YamlRefused(f"line {event.start_mark.line + 1}: YAML aliases are not accepted")
+        node = super().compose_node(parent, index)
+        return node
+
+    def compose_scalar_node(self, anchor):  # type: ignore[override]
+        return super().compose_scalar_node(anchor)
+
+
+def load_yaml_text(text: str, what: str = "YAML document"):
+    if len(text.encode("utf-8", "replace")) > MAX_YAML_BYTES:
+        raise YamlRefused(f"{what} is larger than {MAX_YAML_BYTES} bytes")
+    try:
+        return yaml.load(text, Loader=_NoAliasLoader)  # noqa: S506 - safe loader subclass
+    except YamlRefused:
+        raise
+    except yaml.YAMLError as exc:
+        mark = getattr(exc, "problem_mark", None)
+        where = f"line {mark.line + 1}: " if mark is not None else ""
+        raise YamlRefused(f"{what}: {where}{getattr(exc, 'problem', None) or exc}") from None
+
+
+def load_yaml_file(path) -> object:
+    import os
+
+    size = os.path.getsize(path)
+    if size > MAX_YAML_BYTES:
+        raise YamlRefused(f"{path}: larger than {MAX_YAML_BYTES} bytes")
+    with open(path, "rb") as fh:
+        raw = fh.read(MAX_YAML_BYTES + 1)
+    return load_yaml_text(raw.decode("utf-8", "replace"), str(path))

@@ -1,0 +1,101 @@
+"""Reading deck files safely: size limit, encoding detection, line ends. Never writes.
+
+Parsers work on bytes (UTF-8 or an ASCII-compatible 8-bit encoding) with ``\\n``
+line ends; :func:`read_deck_bytes` delivers exactly that and says what it did.
+"""
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass
+
+BOMS = (
+    (b"\xef\xbb\xbf", "utf-8-sig"),
+    (b"\xff\xfe", "utf-16-le"),
+    (b"\xfe\xff", "utf-16-be"),
+)
+
+
+class SourceError(Exception):
+    """A file that cannot be read as a deck. ``code`` names the parse rule that reports it."""
+
+    def __init__(self, code: str, message: str):
+        super().__init__(message)
+        self.code = code
+        self.message = message
+
+
+@dataclass
+class Source:
+    path: str
+    data: bytes          # ASCII-compatible bytes, "\n" line ends
+    encoding: str        # what the file was: utf-8, utf-8-sig, utf-16-le, latin-1 ...
+    line_ends: str       # "lf", "crlf", "cr", "mixed"
+
+
+def looks_binary(head: bytes) -> bool:
+    """NUL bytes (outside UTF-16) or many control characters mean the file is not text."""
+    if not head:
+        return False
+    if any(head.startswith(bom) for bom, enc in BOMS if enc.startswith("utf-16")):
+        return False
+    if b"\x00" in head:
+        return True
+    ctrl = sum(1 for b in head if b < 9 or 13 < b < 32 and b != 27)
+    return ctrl > len(head) * 0.05
+
+
+def read_deck_bytes(path: str, max_size: int) -> Source:
+    try:
+        st = os.stat(path)
+    except FileNotFoundError:
+        raise SourceError("file-unreadable", "file not found") from None
+    except OSError as exc:
+        raise SourceError("file-unreadable", f"cannot read the file ({exc.strerror or exc})") from None
+    if os.path.isdir(path):
+        raise SourceError("file-unreadable", "is a directory, not a file")
+    if st.st_size > max_size:
+        raise SourceError("file-too-large",
+                          f"file is {st.st_size / 2**20:.1f} MiB, over the limit of {max_size / 2**20:.0f} MiB "
+                          "(raise max_file_size_mb to check it)")
+    try:
+        with open(path, "rb") as fh:
+            data = fh.read(max_size + 1)
+    except OSError as exc:
+        raise SourceError("file-unreadable", f"cannot read the file ({exc.strerror or exc})") from None
+    encoding = "utf-8"
+    for bom, enc in BOMS:
+        if data.startswith(bom):
+            encoding = enc
+            break
+    if encoding.startswith("utf-16"):
+        try:
+            data = data.decode(encoding).encode("utf-8")
+        except UnicodeDecodeError:
+            raise SourceError("binary-file", f"starts with a {encoding} byte-order mark but does not decode") from None
+        if data.startswith(b"\xef\xbb\xbf"):
+            data = data[3:]
+    elif encoding == "utf-8-sig":
+        data = data[3:]
+    elif looks_binary(data[:8192]):
+        raise SourceError("binary-file", "is a binary file, not a text deck")
+    line_ends = "lf"
+    if b"\r" in data:
+        crlf = data.count(b"\r\n")
+        cr = data.count(b"\r") - crlf
+        lf = data.count(b"\n") - crlf
+        line_ends = "crlf" if crlf and not cr and not lf else ("cr" if cr and not crlf and not lf else "mixed")
+        data = data.replace(b"\r\n", b"\n").replace(b"\r", b"\n")
+    if encoding == "utf-8":
+        try:
+            data.decode("utf-8")
+        except UnicodeDecodeError:
+            encoding = "latin-1"
+    return Source(path=path, data=data, encoding=encoding, line_ends=line_ends)
+
+
+def text(raw: bytes) -> str:
+    """Decode a piece of a deck for display and names: UTF-8, falling back to latin-1."""
+    try:
+        return raw.decode("utf-8")
+    except UnicodeDecodeError:
+        return raw.decode("latin-1")

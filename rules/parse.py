@@ -1,0 +1,110 @@
+"""parse/*: what the parsers saw while reading a deck, as findings.
+
+Parsers record :class:`linter.model.Issue` objects with a ``code``; each code has one
+rule here that reports them (rules read only the neutral model). The engine itself
+emits the file-level ones (path not found, unreadable, binary, not a deck).
+"""
+from linter.registry import engine_rule, rule
+
+CCX = "CalculiX CrunchiX User's Manual (input deck format); ccx source, readinput.c / splitline.f"
+
+#: code -> (severity, title, rationale, references)
+ISSUE_RULES = {
+    "malformed-data": ("error", "A data line cannot be read",
+                       "A material, section or other checked data line holds a field that is not a number "
+                       "where one is required, or too few values. The solver stops on it or reads something "
+                       "else; the line is skipped and parsing continues.", (CCX,)),
+    "missing-include": ("error", "An included file does not exist",
+                        "The solver stops when an include is missing; everything defined in it (materials, "
+                        "sets) is also missing from this check. Findings that follow only from the missing "
+                        "file are not repeated.", ("CCX-UM *INCLUDE; formats.md 1.3, 4.4",)),
+    "include-refused": ("error", "An include leaves the include root",
+                        "An include that resolves outside the include root (the configuration's folder, the "
+                        "git work tree, or the common folder of the paths given) is refused, so that a "
+                        "third-party deck cannot make the tool read arbitrary files. The check is incomplete.",
+                        ()),
+    "include-cycle": ("error", "Includes form a cycle",
+                      "A file includes itself directly or through other files; the solver would loop or stop.",
+                      ()),
+    "include-too-deep": ("error", "Includes are nested too deeply",
+                         "Nesting beyond the configured depth is refused (ccx itself stops beyond 9 levels).",
+                         ("ccx source, includefilename.f / readinput.c",)),
+    "include-directory": ("error", "An include names a directory", "The include names a folder, not a file.", ()),
+    "include-unreadable": ("error", "An included file cannot be read",
+                           "The included file exists but cannot be read (permissions, binary, too large).", ()),
+    "number-truncated": ("error", "A number is longer than the solver reads",
+                         "CalculiX reads reals with (f20.0) from the first 20 characters of a field: a longer "
+                         "number such as 2.100000000000000000E+05 is silently read as 2.1.",
+                         ("ccx source, elastics.f (read with f20.0); formats.md 1.2",)),
+    "keyword-continuation": ("warning", "A keyword line ends with a comma",
+                             "Other keyword dialects continue a keyword line that ends with a comma; CalculiX "
+                             "does not, and reads the next line as data.",
+                             ("ccx source, readinput.c (no join logic); formats.md 1.1",)),
+    "unknown-option": ("warning", "An option value the solver replaces by its default",
+                       "An unrecognised parameter value is silently replaced by the default (e.g. an unknown "
+                       "*ELASTIC TYPE is read as isotropic, N= before the model name is applied to the "
+                       "default model).", ("ccx source, elastics.f / hyperelastics.f; formats.md 2.8",)),
+    "unknown-element-type": ("error", "An element type the dialect does not define",
+                             "The solver refuses unknown element types (e.g. hybrid ...H names in CalculiX).",
+                             ("ccx source, elements.f; formats.md 3",)),
+    "empty-field": ("warning", "An empty field is read as zero",
+                    "An empty field between commas is read as 0 by the solver; where it is a material "
+                    "constant (e.g. '210000.,,' gives nu = 0) that is rarely intended.",
+                    ("ccx source, splitline.f; formats.md 1.1",)),
+    "value-not-finite": ("error", "A value is not a finite number",
+                         "NaN, infinity or an overflowing exponent (1e400) cannot be a material constant.", ()),
+    "too-many-fields": ("error", "A data line has more fields than the solver reads",
+                        "CalculiX accepts at most 16 comma-separated entries on a line.",
+                        ("ccx source, splitline.f; formats.md 1.2",)),
+    "data-without-keyword": ("warning", "Data lines before any keyword",
+                             "Lines that are neither comments nor keywords appear before the first keyword "
+                             "(or after an unknown one); the solver ignores or misreads them.", ()),
+    "misplaced-card": ("error", "A card outside the block it belongs to",
+                       "A material property card (e.g. *ELASTIC) appears outside a *MATERIAL block, or a "
+                       "card appears where the solver does not accept it.", (CCX,)),
+    "truncated": ("error", "The file ends in the middle of a card",
+                  "The last card is incomplete (missing data lines or continuation): the file may have been "
+                  "cut short.", ()),
+    "no-bulk-section": ("warning", "No bulk-data section found",
+                        "A bulk deck without BEGIN BULK (or ENDDATA) is incomplete for most solvers.", ()),
+    "encoding": ("note", "The file is not UTF-8",
+                 "The file was read as latin-1 (or UTF-16); names with non-ASCII characters may differ from "
+                 "what another tool shows.", ()),
+    "duplicate-set": ("note", "A set is defined more than once",
+                      "Reopening a set adds to it (CalculiX); a repeated definition is often a copy-paste "
+                      "left-over.", ("CCX-UM *ELSET",)),
+    "empty-file": ("warning", "The file holds no deck data", "The file is empty or holds only comments.", ()),
+}
+
+
+def _make(code, severity, title, rationale, refs):
+    @rule(f"parse/{code}", severity=severity, title=title, rationale=rationale, references=refs,
+          data="as recorded by the parser (e.g. field, value, read_as)")
+    def _issue_rule(model, ctx, _code=code):
+        for iss in model.issues:
+            if iss.code == _code:
+                sev = iss.data.get("severity") if isinstance(iss.data, dict) else None
+                data = {k: v for k, v in iss.data.items() if k != "severity"}
+                defect = ("include", iss.data.get("include")) if "include" in _code else None
+                yield ctx.finding(iss.message, iss.loc, material=iss.material, data=data, severity=sev,
+                                  defect=defect)
+
+    _issue_rule.__name__ = "parse_" + code.replace("-", "_")
+    return _issue_rule
+
+
+for _code, (_sev, _title, _why, _refs) in ISSUE_RULES.items():
+    _make(_code, _sev, _title, _why, _refs)
+
+engine_rule("parse/path-not-found", severity="error", title="A path given does not exist",
+            rationale="The check is incomplete: a named file or folder does not exist (exit code 2).")
+engine_rule("parse/file-unreadable", severity="error", title="A file cannot be read",
+            rationale="Permissions, a broken link or an I/O error: the file was not checked (exit code 2).")
+engine_rule("parse/binary-file", severity="error", title="A file is binary, not a text deck",
+            rationale="The file holds NUL bytes or control characters; it was not checked (exit code 2).")
+engine_rule("parse/file-too-large", severity="error", title="A file is over the size limit",
+            rationale="Files over max_file_size_mb are not read, so that a hostile deck cannot exhaust memory.")
+engine_rule("parse/not-a-deck", severity="error", title="A file given is not a deck of a known format",
+            rationale="A file named explicitly on the command line does not look like any supported format.")
+engine_rule("parse/no-deck-found", severity="error", title="No deck was found",
+            rationale="The paths given hold no file of a supported format; nothing was checked (exit code 2).")
