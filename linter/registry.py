@@ -92,10 +92,32 @@ def load(plugins: bool = True) -> dict[str, Rule]:
     global _loaded
     if not _loaded:
         _loaded = True
-        import linter.rules  # noqa: F401  (registers the built-in pack)
+        _import_builtin_pack()
         if plugins:
             _load_plugins()
     return _RULES
+
+
+def _import_builtin_pack() -> None:
+    """Import ``linter.rules``; from a source checkout that was not installed, load ``rules/`` under that name."""
+    try:
+        import linter.rules  # noqa: F401  (registers the built-in pack)
+        return
+    except ModuleNotFoundError as exc:
+        if exc.name != "linter.rules":
+            raise
+    import importlib.util
+    import sys
+    from pathlib import Path
+
+    folder = Path(__file__).resolve().parent.parent / "rules"
+    spec = importlib.util.spec_from_file_location("linter.rules", folder / "__init__.py",
+                                                  submodule_search_locations=[str(folder)])
+    if spec is None or spec.loader is None:  # pragma: no cover
+        raise ModuleNotFoundError("the built-in rule pack (rules/) is missing")
+    module = importlib.util.module_from_spec(spec)
+    sys.modules["linter.rules"] = module
+    spec.loader.exec_module(module)
 
 
 def _load_plugins() -> None:
