@@ -1,0 +1,243 @@
+"""Benchmark of ``deckwarden check`` against ``meshio.read`` and a plain Python line loop.
+
+Generates the synthetic decks of ``gen_decks.py`` (10k, 100k and 1M hexahedra, keyword
+and bulk) into a scratch folder, then measures, each in its own subprocess, wall time
+and peak RSS (``os.wait4`` rusage of that child) of:
+
+* ``deckwarden check --format json`` on each deck (the findings are checked too: the
+  planted ones must be there, on the right material; the run exits 1 if not);
+* ``meshio.read`` of the same file;
+* a loop that only finds keyword lines (``*``) or bulk card names (first field);
+* ``python -c "import numpy"`` and ``deckwarden check`` on a tiny deck (start-up);
+* the shared corpus with ``--jobs 1`` and ``--jobs 2``.
+
+Reports medians of ``--repeat`` runs, the ratios, and the goal checks. Exit code:
+0 all goals met, 1 a finding check failed, 3 a speed/memory goal missed (use
+``--no-goals`` to report goals without failing on them).
+
+Usage: ``python tests/bench/run_bench.py [--out DIR] [--repeat 3] [--sizes 10k,100k,1M]``
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+HERE = Path(__file__).resolve().parent
+sys.path.insert(0, str(HERE))
+import gen_decks  # noqa: E402
+
+REPO = HERE.parents[1]
+PY = sys.executable
+
+
+def deckwarden_cmd() -> list[str]:
+    exe = Path(PY).with_name("deckwarden")
+    return [str(exe)] if exe.exists() else [PY, "-m", "linter"]
+
+
+KEYWORD_LOOP = """
+import sys
+n = 0
+for line in open(sys.argv[1], 'rb'):
+    if line.startswith(b'*'):
+        n += 1
+print(n)
+"""
+
+BULK_LOOP = """
+import sys
+names = {}
+for line in open(sys.argv[1], 'rb'):
+    if line[:1] in b'$+* \\n':
+        continue
+    name = line.split(b',', 1)[0][:8].strip()
+    names[name] = names.get(name, 0) + 1
+print(len(names))
+"""
+
+MESHIO_READ = """
+import sys, meshio
+m = meshio.read(sys.argv[1], file_format=sys.argv[2])
+print(sum(len(c.data) for c in m.cells))
+"""
+
+
+def run(cmd: list[str], cwd=None) -> tuple[float, int, int, bytes]:
+    """(wall seconds, peak RSS bytes, exit code, stdout) of one child process."""
+    with tempfile.TemporaryFile() as out, tempfile.TemporaryFile() as err:
+        t0 = time.perf_counter()
+        p = subprocess.Popen(cmd, stdout=out, stderr=err, cwd=cwd)
+        _pid, status, ru = os.wait4(p.pid, 0)
+        wall = time.perf_counter() - t0
+        p.returncode = os.waitstatus_to_exitcode(status)
+        out.seek(0)
+        err.seek(0)
+        stdout, stderr = out.read(), err.read()
+    if p.returncode not in (0, 1):
+        sys.stderr.write(f"  ! {' '.join(cmd)} exited {p.returncode}: {stderr[-2000:].decode(errors='replace')}\n")
+    return wall, ru.ru_maxrss * 1024, p.returncode, stdout
+
+
+def measure(cmd: list[str], repeat: int, cwd=None) -> dict:
+    runs = [run(cmd, cwd) for _ in range(repeat)]
+    return {"wall": statistics.median(r[0] for r in runs), "rss": statistics.median(r[1] for r in runs),
+            "rc": runs[-1][2], "stdout": runs[-1][3], "walls": [r[0] for r in runs]}
+
+
+def check_findings(man: gen_decks.Manifest, report_json: bytes) -> list[str]:
+    """Problems with the findings of ``deckwarden check --format json`` on a generated deck."""
+    try:
+        rep = json.loads(report_json)
+    except ValueError as exc:
+        return [f"output is not JSON ({exc})"]
+    problems = []
+    files = rep.get("files", [])
+    if len(files) != 1:
+        return [f"expected one file in the report, got {len(files)}"]
+    summary = files[0].get("summary", {})
+    if summary.get("elements") != man.elements:
+        problems.append(f"summary.elements = {summary.get('elements')}, expected {man.elements}")
+    if summary.get("nodes") not in (None, man.nodes) and summary.get("nodes") != man.nodes:
+        problems.append(f"summary.nodes = {summary.get('nodes')}, expected {man.nodes}")
+    # material names as the parser reports them, matched by the line of their card
+    by_line = {m.get("line"): m.get("name") for m in files[0].get("materials", [])}
+    names = {}
+    for written, ln in man.material_lines.items():
+        got = by_line.get(ln) or by_line.get(man.elastic_lines[written])
+        if got is None:
+            problems.append(f"material {written} (line {ln}) missing from the report's materials")
+        names[written] = got
+    findings = rep.get("findings", [])
+    bad = [f for f in findings if f["rule"].split("/")[0] in ("parse", "internal")]
+    for f in bad:
+        problems.append(f"unexpected {f['rule']} at line {f.get('line')}: {f['message']}")
+    for written, rules in man.planted.items():
+        for rid in rules:
+            hits = [f for f in findings if f["rule"] == rid and f.get("material") == names.get(written)]
+            if len(hits) != 1:
+                problems.append(f"{rid} on {written}: {len(hits)} findings, expected 1")
+    for written in man.clean:
+        for rid in gen_decks.PLANTED:
+            hits = [f for f in findings if f["rule"] == rid and f.get("material") == names.get(written)]
+            if hits:
+                problems.append(f"{rid} on the clean material {written}: {hits[0]['message']}")
+    for f in findings:
+        if f.get("line") is not None and not (1 <= f["line"] <= man.lines):
+            problems.append(f"{f['rule']} at line {f['line']}, outside 1..{man.lines}")
+    return problems
+
+
+def fmt_row(cells, widths):
+    return "  ".join(str(c).rjust(w) if i else str(c).ljust(w) for i, (c, w) in enumerate(zip(cells, widths)))
+
+
+def main(argv=None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.split("\n", 1)[0])
+    ap.add_argument("--out", type=Path, default=gen_decks.default_out())
+    ap.add_argument("--sizes", default="10k,100k,1M")
+    ap.add_argument("--formats", default="keyword,bulk")
+    ap.add_argument("--repeat", type=int, default=3)
+    ap.add_argument("--meshio-repeat", type=int, default=None, help="repeats of meshio.read (default: --repeat)")
+    ap.add_argument("--corpus", type=Path, default=Path(os.environ.get("DECKWARDEN_CORPUS", REPO.parent / "shared" / "corpus")))
+    ap.add_argument("--no-corpus", action="store_true")
+    ap.add_argument("--no-goals", action="store_true", help="report goal checks but do not fail on them")
+    args = ap.parse_args(argv)
+    mrep = args.meshio_repeat or args.repeat
+    dw = deckwarden_cmd()
+    sizes = args.sizes.split(",")
+    formats = args.formats.split(",")
+    print(f"# deckwarden benchmark: repeat={args.repeat}, python {sys.version.split()[0]}, "
+          f"{os.cpu_count()} CPUs, decks in {args.out}")
+
+    finding_problems: list[str] = []
+    rows = []
+    t = {}
+    numpy_start = measure([PY, "-c", "import numpy"], args.repeat)
+    for fmt in formats:
+        tiny = gen_decks.generate(args.out, "tiny", fmt)
+        st = measure(dw + ["check", "--format", "json", tiny.path], args.repeat)
+        finding_problems += [f"tiny {fmt}: {p}" for p in check_findings(tiny, st["stdout"])]
+        t[(fmt, "tiny")] = st
+        for size in sizes:
+            man = gen_decks.generate(args.out, size, fmt)
+            m_dw = measure(dw + ["check", "--format", "json", man.path], args.repeat)
+            finding_problems += [f"{size} {fmt}: {p}" for p in check_findings(man, m_dw["stdout"])]
+            m_io = measure([PY, "-c", MESHIO_READ, man.path, "abaqus" if fmt == "keyword" else "nastran"], mrep)
+            m_loop = measure([PY, "-c", KEYWORD_LOOP if fmt == "keyword" else BULK_LOOP, man.path], args.repeat)
+            t[(fmt, size)] = {"dw": m_dw, "meshio": m_io, "loop": m_loop, "man": man}
+            rows.append((fmt, size, f"{man.size_bytes / 1e6:.1f}", f"{m_dw['wall']:.2f}", f"{m_dw['rss'] / 1e6:.0f}",
+                         f"{m_io['wall']:.2f}", f"{m_io['rss'] / 1e6:.0f}", f"{m_loop['wall']:.2f}",
+                         f"{m_io['wall'] / m_dw['wall']:.1f}", f"{m_dw['rss'] / man.size_bytes:.2f}"))
+            print(f"  measured {fmt} {size}", flush=True)
+
+    head = ("format", "size", "MB", "dw s", "dw RSS MB", "meshio s", "meshio RSS MB", "loop s",
+            "meshio/dw", "dwRSS/file")
+    widths = [max(len(str(r[i])) for r in rows + [head]) for i in range(len(head))]
+    print()
+    print(fmt_row(head, widths))
+    for r in rows:
+        print(fmt_row(r, widths))
+    print()
+    print(f"python -c 'import numpy': {numpy_start['wall']:.3f} s")
+    for fmt in formats:
+        print(f"deckwarden check on the tiny {fmt} deck: {t[(fmt, 'tiny')]['wall']:.3f} s "
+              f"({t[(fmt, 'tiny')]['wall'] / numpy_start['wall']:.2f}x import numpy)")
+
+    goals: list[tuple[str, bool, str]] = []
+    for fmt, limit in (("keyword", 20), ("bulk", 15)):
+        if (fmt, "1M") in t:
+            r = t[(fmt, "1M")]
+            ratio = r["meshio"]["wall"] / r["dw"]["wall"]
+            goals.append((f"1M {fmt}: deckwarden <= 1/{limit} of meshio.read", ratio >= limit,
+                          f"{r['dw']['wall']:.2f} s vs {r['meshio']['wall']:.2f} s ({ratio:.1f}x)"))
+    for key, r in t.items():
+        if key[1] == "tiny":
+            continue
+        ratio = r["dw"]["rss"] / r["man"].size_bytes
+        goals.append((f"{key[1]} {key[0]}: peak RSS <= 1.5x file size", ratio <= 1.5,
+                      f"{r['dw']['rss'] / 1e6:.0f} MB for {r['man'].size_bytes / 1e6:.0f} MB ({ratio:.2f}x)"))
+    for fmt in formats:
+        if (fmt, "100k") in t and (fmt, "1M") in t:
+            base = t[(fmt, "tiny")]["wall"]
+            per = [(t[(fmt, s)]["dw"]["wall"] - base) / t[(fmt, s)]["man"].elements for s in ("100k", "1M")]
+            dev = per[1] / per[0] - 1 if per[0] > 0 else float("inf")
+            goals.append((f"{fmt}: linear scaling 100k -> 1M within +-25 %", abs(dev) <= 0.25,
+                          f"{per[0] * 1e9:.0f} vs {per[1] * 1e9:.0f} ns/element ({dev:+.0%})"))
+        ratio = t[(fmt, "tiny")]["wall"] / numpy_start["wall"]
+        goals.append((f"{fmt}: start-up <= 3x import numpy", ratio <= 3,
+                      f"{t[(fmt, 'tiny')]['wall']:.3f} s vs {numpy_start['wall']:.3f} s ({ratio:.2f}x)"))
+    if not args.no_corpus and args.corpus.is_dir():
+        j1 = measure(dw + ["check", "--format", "json", "--jobs", "1", str(args.corpus)], args.repeat)
+        j2 = measure(dw + ["check", "--format", "json", "--jobs", "2", str(args.corpus)], args.repeat)
+        sp = j1["wall"] / j2["wall"]
+        goals.append(("corpus: --jobs 2 >= 1.7x faster than --jobs 1", sp >= 1.7,
+                      f"{j1['wall']:.2f} s vs {j2['wall']:.2f} s ({sp:.2f}x)"))
+        try:
+            nfiles = len(json.loads(j1["stdout"]).get("files", []))
+            print(f"corpus: {nfiles} decks checked")
+        except ValueError:
+            finding_problems.append("corpus run: output is not JSON")
+
+    print()
+    for name, ok, detail in goals:
+        print(f"[{'met' if ok else 'MISSED'}] {name}: {detail}")
+    if finding_problems:
+        print("\nFINDINGS NOT AS EXPECTED:")
+        for p in finding_problems:
+            print("  " + p)
+        return 1
+    print("\nfindings on the generated decks: as expected")
+    if not args.no_goals and not all(ok for _n, ok, _d in goals):
+        return 3
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
