@@ -1,0 +1,178 @@
+"""aniso/* rules on neutral models built directly (layouts of linter.model.BLOCK_LAYOUTS)."""
+from __future__ import annotations
+
+import math
+
+import pytest
+
+from linter.config import Config
+from linter.derived import derive_all
+from linter.model import DeckModel, Loc, Material, MaterialRef, PropertyBlock, Row, Section
+from linter.runner import run_rules
+
+P = "deck.inp"
+AS4_3D = (126.0, 11.0, 11.0, 0.28, 0.28, 0.4, 6.6, 6.6, 11.0 / 2.8)   # physics.md 2.4 (SHK 1998)
+
+
+def block(kind, form, rows, line=10, card="*ELASTIC", temps=None, options=None):
+    temps = temps or [None] * len(rows)
+    return PropertyBlock(kind=kind, form=form, loc=Loc(P, line), card=card, options=dict(options or {}),
+                         rows=[Row(tuple(float(x) for x in r), t, Loc(P, line + 1 + i))
+                               for i, (r, t) in enumerate(zip(rows, temps))])
+
+
+def model_with(*blocks, name="M", fmt="keyword", dialect="calculix", sections=()):
+    m = DeckModel(path=P, format=fmt, dialect=dialect)
+    m.materials[name.upper()] = Material(name=name, key=name.upper(), loc=Loc(P, 9), blocks=list(blocks))
+    m.sections.extend(sections)
+    return m
+
+
+def run(model, family="aniso", **cfg):
+    config = Config(select=[family], **cfg)
+    assert derive_all(model, config) == []
+    return run_rules(model, config)
+
+
+def by_rule(found, rid):
+    return [f for f in found if f.rule == rid]
+
+
+def test_published_lamina_and_3d_sets_pass():
+    # Tsai & Hahn 1980 / Soden, Hinton & Kaddour 1998 plies (physics.md 2.4) are admissible
+    m = model_with(block("elastic", "engineering", [AS4_3D]),
+                   block("elastic", "lamina", [(181.0, 10.3, 0.28, 7.17, math.nan, math.nan)], card="MAT8"),
+                   block("elastic", "aniso", [(300000, 110000, 320000, 130000, 140000, 350000, 160000, 170000,
+                                               180000, 390000, 200000, 210000, 220000, 230000, 440000, 250000,
+                                               260000, 270000, 280000, 290000, 500000)]))
+    found = run(m)
+    assert found == []
+    d = m.materials["M"].derived["aniso"]
+    assert d[0]["rows"][0]["eig_min"] == pytest.approx(3.92857, rel=1e-5)      # physics.md 2.4
+    assert d[0]["rows"][0]["determinant"] == pytest.approx(0.820836, rel=1e-5)
+    assert d[2]["rows"][0]["eig_min"] == pytest.approx(75478.05, abs=0.01)     # physics.md 2.1
+
+
+def test_lamina_nu12_past_bound_is_reported_once():
+    # T300/5208 (Tsai & Hahn 1980, physics.md 2.4) with nu12 = 4.5 > sqrt(181/10.3) = 4.192
+    m = model_with(block("elastic", "lamina", [(181.0, 10.3, 4.5, 7.17, math.nan, math.nan)], card="MAT8"),
+                   fmt="bulk", dialect="mystran")
+    found = run(m)
+    assert [f.rule for f in found] == ["aniso/constant-bounds"]   # PD finding restates it and is dropped
+    f = found[0]
+    assert f.severity == "error" and f.line == 10 and f.path == P
+    assert "nu12^2 * E2/E1 = 1.152 >= 1" in f.message and "sqrt(E1/E2) = 4.192" in f.message
+
+
+def test_engineering_bounds_message_and_restatement():
+    # E1 = 10, E2 = E3 = 100, nu12 = 0.5 > sqrt(E1/E2) (physics.md 2.4 failing vector)
+    m = model_with(block("elastic", "engineering", [(10, 100, 100, 0.5, 0.0, 0.3, 5, 5, 5)]))
+    found = run(m)
+    assert [f.rule for f in found] == ["aniso/constant-bounds"]
+    assert "nu12^2 * E2/E1 = 2.5 >= 1" in found[0].message
+
+
+def test_determinant_condition_when_pairwise_bounds_hold():
+    # AS4/3501-6 with nu23 = 0.99: pairwise bounds hold, condition 3 = -0.00734 (physics.md 2.4)
+    v = list(AS4_3D)
+    v[5] = 0.99
+    found = run(model_with(block("elastic", "engineering", [v])))
+    assert [f.rule for f in found] == ["aniso/not-positive-definite"]
+    assert "-0.00734" in found[0].message and "nu23 nu32" in found[0].message
+
+
+def test_non_positive_modulus():
+    v = list(AS4_3D)
+    v[7] = -6.6
+    found = run(model_with(block("elastic", "engineering", [v])))
+    assert [f.rule for f in found] == ["aniso/constant-bounds"]
+    assert "G13 = -6.6 <= 0" in found[0].message
+
+
+def test_temperature_rows_one_finding_listing_rows():
+    ok = list(AS4_3D)
+    bad = list(AS4_3D)
+    bad[5] = 0.99
+    m = model_with(block("elastic", "engineering", [ok, bad, bad], temps=[20.0, 100.0, 200.0]))
+    found = run(m)
+    assert len(found) == 1
+    f = found[0]
+    assert "T = 100 (line 12)" in f.message and "T = 200 (line 13)" in f.message and "T = 20 " not in f.message
+    assert [r["temperature"] for r in f.data["rows"]] == [100.0, 200.0]
+
+
+def test_aniso_and_mat9_not_pd_and_ill_conditioned():
+    zero_shear = [1000, 300, 1000, 300, 300, 1000, 0, 0, 0, 200, 0, 0, 0, 0, 200, 0, 0, 0, 0, 0, 0]
+    found = run(model_with(block("elastic", "aniso", [zero_shear])))
+    assert [f.rule for f in found] == ["aniso/not-positive-definite"]
+    assert "smallest eigenvalue 0" in found[0].message
+    # MAT9 (x,y,z,xy,yz,zx row by row) of a tiny shear modulus: PD but badly conditioned
+    g = [1e6, 3e5, 3e5, 0, 0, 0, 1e6, 3e5, 0, 0, 0, 1e6, 0, 0, 0, 2e5, 0, 0, 2e5, 0, 1e-4]
+    found = run(model_with(block("elastic", "mat9", [g], card="MAT9"), fmt="bulk", dialect="mystran"))
+    assert [f.rule for f in found] == ["aniso/ill-conditioned"]
+    assert found[0].severity == "warning" and found[0].data["rows"][0]["condition"] > 1e8
+    # a looser limit from the configuration silences it
+    m = model_with(block("elastic", "mat9", [g], card="MAT9"), fmt="bulk", dialect="mystran")
+    cfg = Config(select=["aniso"])
+    cfg.thresholds["aniso"]["condition_limit"] = 1e12
+    derive_all(m, cfg)
+    assert run_rules(m, cfg) == []
+
+
+def _shell(mat, role, card="PSHELL"):
+    return Section(kind="shell", card=card, elset="PID 1", elset_name="PID 1", loc=Loc(P, 30),
+                   materials=[MaterialRef(role=role, name=mat, key=mat.upper(), loc=Loc(P, 30))])
+
+
+def test_mat2_transverse_shear_uses_2x2_part():
+    vals = [(100.0, 30.0, 0.0, 80.0, 0.0, -5.0)]            # G33 < 0: not PD as a 3x3 ...
+    m = model_with(block("elastic", "mat2", vals, card="MAT2"), fmt="bulk", dialect="mystran",
+                   sections=[_shell("M", "transverse-shear")])
+    assert run(m) == []                                     # ... but only the 2x2 part counts as MID3
+    m = model_with(block("elastic", "mat2", vals, card="MAT2"), fmt="bulk", dialect="mystran",
+                   sections=[_shell("M", "membrane")])
+    assert [f.rule for f in run(m)] == ["aniso/not-positive-definite"]
+
+
+def test_mat8_transverse_shear_blank_is_rigid_zero_is_not():
+    ply = (181.0, 10.3, 0.28, 7.17, math.nan, math.nan)
+    m = model_with(block("elastic", "lamina", [ply], card="MAT8"), fmt="bulk", dialect="mystran",
+                   sections=[_shell("M", "transverse-shear")])
+    assert run(m) == []
+    m = model_with(block("elastic", "lamina", [(181.0, 10.3, 0.28, 7.17, 0.0, 5.0)], card="MAT8"),
+                   fmt="bulk", dialect="mystran", sections=[_shell("M", "transverse-shear")])
+    found = run(m)
+    assert [f.rule for f in found] == ["aniso/constant-bounds"] and "G1Z = 0 <= 0" in found[0].message
+
+
+def _solid(mat, orientation=None, options=None):
+    return Section(kind="solid", card="*SOLID SECTION", elset="EALL", elset_name="Eall", loc=Loc(P, 40),
+                   materials=[MaterialRef(role="solid", name=mat, key=mat.upper(), loc=Loc(P, 40))],
+                   orientation=orientation, options=dict(options or {}))
+
+
+def test_missing_orientation():
+    found = run(model_with(block("elastic", "engineering", [AS4_3D]), sections=[_solid("M")]))
+    assert [f.rule for f in found] == ["aniso/missing-orientation"]
+    assert found[0].severity == "note" and found[0].line == 40
+    assert run(model_with(block("elastic", "engineering", [AS4_3D]), sections=[_solid("M", "OR1")])) == []
+    # isotropic constants written as ORTHO need no orientation
+    lam, mu = 121153.8, 80769.2
+    iso = (lam + 2 * mu, lam, lam + 2 * mu, lam, lam, lam + 2 * mu, mu, mu, mu)
+    assert run(model_with(block("elastic", "ortho", [iso]), sections=[_solid("M")])) == []
+    # bulk PSOLID: blank CORDM is reported, an explicit CORDM (0 = basic included) is a choice
+    g = [1e5, 3e4, 3e4, 0, 0, 0, 2e5, 3e4, 0, 0, 0, 1e5, 0, 0, 0, 4e4, 0, 0, 4e4, 0, 4e4]
+    f = run(model_with(block("elastic", "mat9", [g]), fmt="bulk", dialect="mystran",
+                       sections=[_solid("M", options={"CORDM": None})]))
+    assert [x.rule for x in f] == ["aniso/missing-orientation"] and "CORDM is blank" in f[0].message
+    assert run(model_with(block("elastic", "mat9", [g]), fmt="bulk", dialect="mystran",
+                          sections=[_solid("M", options={"CORDM": 0})])) == []
+
+
+def test_conductivity_not_positive_definite():
+    m = model_with(block("conductivity", "aniso", [(10, 10, 10, 0, 0, 0), (10, 10, 10, 12, 0, 0)],
+                         card="*CONDUCTIVITY", temps=[0.0, 100.0]),
+                   block("conductivity", "ortho", [(5, 5, 5)], line=20, card="*CONDUCTIVITY"))
+    found = run(m)
+    assert [f.rule for f in found] == ["aniso/conductivity-not-positive-definite"]
+    assert "T = 100 (line 12)" in found[0].message and found[0].data["rows"][0]["eig_min"] == pytest.approx(-2)
