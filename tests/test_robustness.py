@@ -293,7 +293,8 @@ def test_bad_numbers(write_deck, fmt, value, rules):
 def test_keyword_fortran_d_exponent(write_deck):
     need("keyword")
     # ccx reads reals with a Fortran (f20.0) edit descriptor, which takes a D exponent
-    # (Fortran 2008, 13.7.2.3.2; formats.md 1.2)
+    # (Fortran 2008, 13.7.2.3.2; formats.md 1.2); checked with ccx 2.20 here: "2.1D5, 3.0d-1" gives the
+    # same displacements as "210000., 0.3" on a one-element tension test
     p = write_deck("dexp.inp", kw(elastic="2.1D5, 3.0d-1"))
     r = run([p])
     assert not hits(r, {"parse/malformed-data"}), r.findings

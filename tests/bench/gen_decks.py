@@ -46,6 +46,8 @@ SEAL = {"name": "SEAL", "E": 12.0, "nu": 0.4995, "rho": 1.2e-9}
 PLANTED = ("elastic/near-incompressible", "element/volumetric-locking")
 
 ROWS_PER_CHUNK = 200_000
+#: bumped whenever the layout of the decks changes (older decks in the scratch folder are rewritten)
+LAYOUT_VERSION = 2
 
 
 @dataclass
@@ -64,6 +66,7 @@ class Manifest:
     clean: list[str] = field(default_factory=list)
     lines: int = 0
     size_bytes: int = 0
+    layout: int = LAYOUT_VERSION
 
     def to_json(self) -> str:
         return json.dumps(asdict(self), indent=1)
@@ -109,10 +112,10 @@ def write_keyword(path: Path, dims: tuple[int, int, int]) -> Manifest:
 
         put("** deckwarden benchmark deck: structured block of C3D8, two materials\n")
         put("*HEADING\nbenchmark block\n*NODE, NSET=NALL\n")
-        line += _write_rows(fh, "%d,%.1f,%.1f,%.1f\n", [np.arange(1, nn + 1), *coords.T])
+        line += _write_rows(fh, "%d, %.1f, %.1f, %.1f\n", [np.arange(1, nn + 1), *coords.T])
         for name, lo, hi in (("METAL", 0, half), ("SEALS", half, ne)):
             put(f"*ELEMENT, TYPE=C3D8, ELSET={name}\n")
-            line += _write_rows(fh, "%d," + ",".join(["%d"] * 8) + "\n",
+            line += _write_rows(fh, "%d, " + ", ".join(["%d"] * 8) + "\n",
                                 [eid[lo:hi], *conn[lo:hi].T])
         for mat in (METAL, SEAL):
             man.material_lines[mat["name"]] = line + 1
@@ -178,7 +181,8 @@ def generate(out: Path, size: str, fmt: str, reuse: bool = True) -> Manifest:
     if reuse and path.is_file() and mpath.is_file():
         try:
             old = json.loads(mpath.read_text(encoding="utf-8"))
-            if tuple(old["dims"]) == dims and old["size_bytes"] == path.stat().st_size:
+            if (tuple(old["dims"]) == dims and old["size_bytes"] == path.stat().st_size
+                    and old.get("layout") == LAYOUT_VERSION):
                 old["dims"] = tuple(old["dims"])
                 return Manifest(**old)
         except (ValueError, KeyError, TypeError):
