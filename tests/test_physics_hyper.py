@@ -145,8 +145,24 @@ def test_ogden_1972_stable_over_default_range():
     res = HS.scan(OGDEN72, (0.1, 4.0), 400)
     assert all(r["all_stable"] for r in res.values())
     assert res["UT"]["stable"] == [(0.1, 4.0)]
-    res = HS.scan(OGDEN72, (0.05, 12.0), 400)            # physics.md 3.5: no loss for 0.05 <= lambda <= 12
-    assert all(r["all_stable"] for r in res.values())
+    assert HS.sufficient_stable(OGDEN72)
+    # the numerical check itself (not the shortcut): physics.md 3.5, no loss for 0.05 <= lambda <= 12
+    lam = np.geomspace(0.05, 12.0, 2000)
+    for mode in HS.MODES:
+        assert HS.stable_mask(OGDEN72, mode, lam).all()
+
+
+@settings(max_examples=40, deadline=None)
+@given(c=st.lists(st.floats(0.0, 5.0), min_size=3, max_size=3), mu=st.lists(st.floats(0.01, 3), min_size=2, max_size=2),
+       al=st.lists(st.floats(-8, 8).filter(lambda a: abs(a) > 0.05), min_size=2, max_size=2))
+def test_sufficient_conditions_hold_numerically(c, mu, al):
+    # physics.md 3.4 sufficient conditions: all C_i0 >= 0 with C10 > 0; Ogden all mu_i > 0 (D-convention)
+    lam = np.geomspace(0.1, 6.0, 300)
+    for model in (HM.Polynomial(((1, 0, c[0] + 0.01), (2, 0, c[1]), (3, 0, c[2]))), HM.Ogden(tuple(mu), tuple(al)),
+                  HM.Polynomial(((1, 0, c[0]), (0, 1, c[1] + 0.01)))):
+        assert HS.sufficient_stable(model)
+        for mode in HS.MODES:
+            assert HS.stable_mask(model, mode, lam).all()
 
 
 def _onsets(model, mode, rng=(0.05, 20.0)):

@@ -176,3 +176,24 @@ def test_conductivity_not_positive_definite():
     found = run(m)
     assert [f.rule for f in found] == ["aniso/conductivity-not-positive-definite"]
     assert "T = 100 (line 12)" in found[0].message and found[0].data["rows"][0]["eig_min"] == pytest.approx(-2)
+
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+SIZES = {"ortho": 9, "engineering": 9, "aniso": 21, "mat9": 21, "mat2": 6, "lamina": 6}
+
+
+@settings(max_examples=40, deadline=None)
+@given(form=st.sampled_from(sorted(SIZES)), data=st.data())
+def test_any_constants_give_findings_not_exceptions(form, data):
+    n = data.draw(st.integers(0, SIZES[form]))
+    vals = data.draw(st.lists(st.floats(-1e6, 1e6, allow_nan=False) | st.just(0.0), min_size=n, max_size=n))
+    found = run(model_with(block("elastic", form, [vals]), sections=[_solid("M"), _shell("M", "transverse-shear")]))
+    assert all(f.rule.startswith("aniso/") for f in found)
+
+
+def test_short_row_is_skipped():
+    m = model_with(block("elastic", "aniso", [(1000, 300, 1000)]))
+    assert run(m) == []                 # incomplete rows are the parser's to report (parse/malformed-data)
+    assert m.materials["M"].derived["aniso"][0]["rows"][0]["complete"] is False

@@ -154,3 +154,28 @@ def test_van_der_waals_skipped():
     m = model_with(hblock("van-der-waals", [(0.5, 5.0, 0.1, 0.0, 0.001)]))
     assert run(m) == []
     assert "skipped" in m.materials["RUBBER"].derived["hyper"]["rows"][0]
+
+
+def test_non_finite_and_short_rows_do_not_fail():
+    m = model_with(hblock("mooney-rivlin", [(float("nan"), 0.1, 0.001), (0.4,)]))
+    found = run(m)                      # derive_all asserted no internal failure
+    rows = m.materials["RUBBER"].derived["hyper"]["rows"]
+    assert "skipped" in rows[0] and rows[1]["mu0"] == pytest.approx(0.8)
+    assert rules_of(found) == ["hyper/compressibility-defaulted"]   # the short row's D1 is read as 0
+
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+FORMS = ["neo-hooke", "mooney-rivlin", "polynomial-2", "polynomial-3", "reduced-polynomial-3", "yeoh", "ogden-1",
+         "ogden-3", "arruda-boyce", "hyperfoam-2"]
+
+
+@settings(max_examples=40, deadline=None)
+@given(form=st.sampled_from(FORMS),
+       vals=st.lists(st.floats(-1e3, 1e3, allow_nan=False) | st.sampled_from([0.0, 0.5, 1e-12, 60.0]),
+                     min_size=0, max_size=12))
+def test_any_constants_give_findings_not_exceptions(form, vals):
+    kind = "hyperfoam" if form.startswith("hyperfoam") else "hyperelastic"
+    found = run(model_with(hblock(form, [vals], kind=kind)))
+    assert all(f.rule.startswith("hyper/") for f in found)

@@ -29,6 +29,8 @@ from linter.physics import hyper_stability as HS
 def analyse_row(form: str, values, ccx_default: bool, stretch_range, points: int) -> dict:
     if form == "van-der-waals":
         return {"model": form, "skipped": "the Van der Waals model is not implemented by the solver"}
+    if not all(math.isfinite(float(v)) for v in values):
+        return {"model": form, "skipped": "a constant is not a finite number"}
     hr = HM.from_row(form, values)
     if hr is None:
         return {"model": form, "skipped": "unknown hyperelastic form"}
@@ -58,9 +60,12 @@ def derive_hyper(model, config) -> None:
         if not blocks:
             continue
         block = blocks[-1]
-        rows = []
+        rows, seen = [], {}
         for r in block.rows:
-            row = analyse_row(block.form, r.values, ccx, srange, points)
+            key = tuple(r.values)
+            if key not in seen:      # temperature tables often repeat a row: analyse it once
+                seen[key] = analyse_row(block.form, r.values, ccx, srange, points)
+            row = dict(seen[key])
             row["line"], row["temperature"] = r.loc.line, r.temperature
             rows.append(row)
         entry = {"model": block.form, "kind": block.kind, "line": block.loc.line, "rows": rows,

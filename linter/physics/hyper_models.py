@@ -61,7 +61,9 @@ class ArrudaBoyce:
     lambda_m: float
 
     def _coef(self):
-        return [self.mu * c / self.lambda_m ** (2 * k) for k, c in enumerate(_AB)]
+        lm2 = np.float64(self.lambda_m) ** 2
+        with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
+            return [float(self.mu * c / lm2 ** k) for k, c in enumerate(_AB)]
 
     @property
     def mu0(self) -> float:
@@ -191,6 +193,13 @@ def foam_beta(nu):
         return np.where(nu == 0.5, np.inf, nu / (1 - 2 * nu))
 
 
+def _pow(x: float, n: int) -> float:
+    try:
+        return x ** n
+    except OverflowError:
+        return math.copysign(math.inf, x) if n % 2 else math.inf
+
+
 def initial_moduli(row: HyperRow, ccx_default: bool = True) -> dict:
     """mu0, K0, nu0, K0/mu0 of a row (physics.md 3.1-3.2; formats.md 2.5-2.6).
 
@@ -208,7 +217,7 @@ def initial_moduli(row: HyperRow, ccx_default: bool = True) -> dict:
         d = list(row.d)
         small = [abs(x) < CCX_D_ZERO for x in d]
         if any(small) and ccx_default and row.ccx_mu0 != 0 and math.isfinite(row.ccx_mu0):
-            d = [(0.1 / row.ccx_mu0) ** (i + 1) if s else x for i, (x, s) in enumerate(zip(d, small))]
+            d = [_pow(0.1 / row.ccx_mu0, i + 1) if s else x for i, (x, s) in enumerate(zip(d, small))]
             out["D_defaulted"] = True
             out["D_used"] = d
         if d and abs(d[0]) >= CCX_D_ZERO:

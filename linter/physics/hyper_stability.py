@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .hyper_models import Model, Ogden, energy
+from .hyper_models import ArrudaBoyce, Model, Ogden, energy
 
 MODES = ("UT", "ET", "PS")
 MODE_NAMES = {"UT": "uniaxial", "ET": "equibiaxial", "PS": "planar"}
@@ -34,39 +34,42 @@ def mode_stretches(mode: str, lam):
     raise ValueError(f"unknown mode {mode!r}")
 
 
-def gradient_hessian(model: Model, l1, l2):
-    """(dg/de1, dg/de2) and H (..., 2, 2) at stretches (l1, l2, 1/(l1 l2)), analytic (physics.md 3.4)."""
+def split_tangent(model: Model, l1, l2):
+    """g = (dg/de1, dg/de2) and H written as diag(d1, d2) + off * [[1, 1], [1, 1]] (physics.md 3.4).
+
+    The split keeps det H = d1 d2 + off (d1 + d2) accurate when the stretch of the free direction
+    dominates (off >> d1, d2), where h11 h22 - h12^2 would cancel catastrophically.
+    """
     l1, l2 = np.broadcast_arrays(np.asarray(l1, float), np.asarray(l2, float))
     l3 = 1.0 / (l1 * l2)
-    shape = l1.shape + (2, 2)
-    h = np.zeros(shape)
-    g = np.zeros(l1.shape + (2,))
     if isinstance(model, Ogden):
+        g = np.zeros(l1.shape + (2,))
+        d1, d2, off = np.zeros(l1.shape), np.zeros(l1.shape), np.zeros(l1.shape)
         for m, a in zip(model.mu, model.alpha):
             if a == 0:
                 continue
             x, y, z = l1 ** a, l2 ** a, l3 ** a
             g[..., 0] += 2 * m / a * (x - z)
             g[..., 1] += 2 * m / a * (y - z)
-            h[..., 0, 0] += 2 * m * (x + z)
-            h[..., 0, 1] += 2 * m * z
-            h[..., 1, 1] += 2 * m * (y + z)
-        h[..., 1, 0] = h[..., 0, 1]
-        return g, h
+            d1, d2, off = d1 + 2 * m * x, d2 + 2 * m * y, off + 2 * m * z
+        return g, d1, d2, off
     a, b, c = l1 ** 2, l2 ** 2, l3 ** 2
     i1, i2 = a + b + c, a * b + b * c + c * a
     w1, w2, w11, w12, w22 = model.derivatives(i1, i2)
-    d1 = np.stack([2 * (a - c), 2 * (b - c)], axis=-1)
-    d2 = np.stack([2 * (1 / c - 1 / a), 2 * (1 / c - 1 / b)], axis=-1)
-    hh1 = 4 * np.stack([np.stack([a + c, c], -1), np.stack([c, b + c], -1)], -2)
-    hh2 = 4 * np.stack([np.stack([1 / a + 1 / c, 1 / c], -1), np.stack([1 / c, 1 / b + 1 / c], -1)], -2)
-    out1 = d1[..., :, None] * d1[..., None, :]
-    out2 = d2[..., :, None] * d2[..., None, :]
-    cross = d1[..., :, None] * d2[..., None, :]
-    e = (..., None, None)
-    h = (w1[e] * hh1 + w2[e] * hh2 + w11[e] * out1 + w12[e] * (cross + np.swapaxes(cross, -1, -2))
-         + w22[e] * out2)
-    g = w1[..., None] * d1 + w2[..., None] * d2
+    v1, v2 = 2 * (a - c), 2 * (b - c)                    # grad I1
+    u1, u2 = 2 * (1 / c - 1 / a), 2 * (1 / c - 1 / b)    # grad I2
+    dv, du = 2 * (a - b), 2 * (1 / b - 1 / a)            # v1 - v2, u1 - u2 without cancellation
+    d1 = (4 * (w1 * a + w2 / a) + w11 * v1 * dv + w22 * u1 * du + w12 * (v1 * du + u1 * dv))
+    d2 = (4 * (w1 * b + w2 / b) - w11 * v2 * dv - w22 * u2 * du - w12 * (v2 * du + u2 * dv))
+    off = 4 * (w1 * c + w2 / c) + w11 * v1 * v2 + w22 * u1 * u2 + w12 * (v1 * u2 + v2 * u1)
+    g = np.stack([w1 * v1 + w2 * u1, w1 * v2 + w2 * u2], axis=-1)
+    return g, d1, d2, off
+
+
+def gradient_hessian(model: Model, l1, l2):
+    """(dg/de1, dg/de2) and H (..., 2, 2) at stretches (l1, l2, 1/(l1 l2)), analytic (physics.md 3.4)."""
+    g, d1, d2, off = split_tangent(model, l1, l2)
+    h = np.stack([np.stack([d1 + off, off], -1), np.stack([off, d2 + off], -1)], -2)
     return g, h
 
 
@@ -93,39 +96,54 @@ def hessian_fd(model: Model, l1, l2, h: float = 1e-4):
 def stable_mask(model: Model, mode: str, lam) -> np.ndarray:
     """True where H is positive definite (relative tolerance on the determinant)."""
     l1, l2, _ = mode_stretches(mode, lam)
-    _g, h = gradient_hessian(model, l1, l2)
-    h11, h22, h12 = h[..., 0, 0], h[..., 1, 1], h[..., 0, 1]
-    det = h11 * h22 - h12 * h12
-    scale = np.maximum(np.abs(h11), np.abs(h22)) ** 2
-    return np.isfinite(det) & (h11 > 0) & (det > 1e-12 * scale)
+    _g, d1, d2, off = split_tangent(model, l1, l2)
+    det = d1 * d2 + off * (d1 + d2)
+    scale = np.abs(d1 * d2) + np.abs(off) * (np.abs(d1) + np.abs(d2))
+    # a state whose tangent overflows (huge exponents or constants) cannot be judged: it is not reported
+    return ~np.isfinite(det) | ((d1 + off > 0) & (det > 1e-12 * scale))
 
 
-def _bisect(model, mode, lo, hi, lo_state, iters=40):
-    """Refine a stability change between lo and hi (log-space bisection)."""
-    a, b = np.log(lo), np.log(hi)
+def _bisect(model, mode, lo, hi, lo_state, iters=34):
+    """Refine stability changes between lo[k] and hi[k] (all at once, log-space bisection)."""
+    a, b = np.log(np.asarray(lo, float)), np.log(np.asarray(hi, float))
+    lo_state = np.asarray(lo_state, bool)
     for _ in range(iters):
         m = 0.5 * (a + b)
-        if bool(stable_mask(model, mode, np.array([np.exp(m)]))[0]) == lo_state:
-            a = m
-        else:
-            b = m
-    return float(np.exp(0.5 * (a + b)))
+        same = stable_mask(model, mode, np.exp(m)) == lo_state
+        a, b = np.where(same, m, a), np.where(same, b, m)
+    return np.exp(0.5 * (a + b))
+
+
+def sufficient_stable(model: Model) -> bool:
+    """Sufficient analytic conditions for stability under every deformation (physics.md 3.4)."""
+    if isinstance(model, Ogden):
+        return all(m > 0 and a != 0 for m, a in zip(model.mu, model.alpha))
+    if isinstance(model, ArrudaBoyce):
+        return model.mu > 0 and model.lambda_m > 0
+    c = {(i, j): model.c(i, j) for i, j, _v in model.terms}
+    if all(j == 0 for _i, j in c):        # reduced polynomial / Yeoh / neo-Hooke: all C_i0 >= 0, C10 > 0
+        return c.get((1, 0), 0.0) > 0 and all(v >= 0 for v in c.values())
+    if set(c) <= {(1, 0), (0, 1)}:        # Mooney-Rivlin
+        return c.get((1, 0), 0.0) >= 0 and c.get((0, 1), 0.0) >= 0 and model.mu0 > 0
+    return False
 
 
 def scan_mode(model: Model, mode: str, stretch_range=(0.1, 4.0), points: int = 400) -> dict:
     """Stable and unstable stretch intervals of one mode over a log-spaced grid (ends refined)."""
     lo, hi = float(stretch_range[0]), float(stretch_range[1])
+    if sufficient_stable(model):
+        return {"mode": mode, "stable": [(lo, hi)], "unstable": [], "all_stable": True, "by": "sufficient condition"}
     lam = np.unique(np.concatenate([np.geomspace(lo, hi, max(int(points), 3)), [1.0] if lo < 1 < hi else []]))
-    ok = stable_mask(model, mode, lam)
-    edges = [lo]
-    for k in np.flatnonzero(ok[1:] != ok[:-1]):
-        edges.append(_bisect(model, mode, lam[k], lam[k + 1], bool(ok[k])))
-    edges.append(hi)
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        ok = stable_mask(model, mode, lam)
+        k = np.flatnonzero(ok[1:] != ok[:-1])
+        inner = _bisect(model, mode, lam[k], lam[k + 1], ok[k]).tolist() if k.size else []
+    edges = [lo] + [float(x) for x in inner] + [hi]
     states = [bool(ok[0])] + [not bool(ok[0]) if i % 2 == 0 else bool(ok[0]) for i in range(len(edges) - 2)]
     stable, unstable = [], []
     for (a, b), s in zip(zip(edges[:-1], edges[1:]), states):
         (stable if s else unstable).append((a, b))
-    return {"mode": mode, "stable": stable, "unstable": unstable, "all_stable": not unstable}
+    return {"mode": mode, "stable": stable, "unstable": unstable, "all_stable": not unstable, "by": "scan"}
 
 
 def scan(model: Model, stretch_range=(0.1, 4.0), points: int = 400) -> dict[str, dict]:
