@@ -1,0 +1,98 @@
+"""Smallest element edge length from connectivity and node coordinates (vectorised, no I/O).
+
+Edges are taken from the element topology (node order as in the CalculiX and Nastran manuals;
+both number corner nodes first and mid-side nodes edge by edge). For quadratic elements an edge
+a-m-b gives the two segments a-m and m-b (the node spacing, which is what limits an explicit step).
+Unknown topologies fall back to the smallest distance between any two nodes of the element.
+"""
+from __future__ import annotations
+
+from itertools import combinations
+from typing import Optional
+
+import numpy as np
+
+_HEX = ((0, 1), (1, 2), (2, 3), (3, 0), (4, 5), (5, 6), (6, 7), (7, 4), (0, 4), (1, 5), (2, 6), (3, 7))
+_TET = ((0, 1), (1, 2), (2, 0), (0, 3), (1, 3), (2, 3))
+_WEDGE = ((0, 1), (1, 2), (2, 0), (3, 4), (4, 5), (5, 3), (0, 3), (1, 4), (2, 5))
+_QUAD = ((0, 1), (1, 2), (2, 3), (3, 0))
+_TRI = ((0, 1), (1, 2), (2, 0))
+
+
+def _quadratic(corner_edges, first_mid: int):
+    out = []
+    for k, (a, b) in enumerate(corner_edges):
+        m = first_mid + k
+        out += [(a, m), (m, b)]
+    return tuple(out)
+
+
+#: (topology family, node count) -> node pairs (0-based) whose distances are the edge segments
+EDGES = {
+    ("solid", 8): _HEX, ("solid", 4): _TET, ("solid", 6): _WEDGE,
+    ("solid", 20): _quadratic(_HEX, 8), ("solid", 10): _quadratic(_TET, 4), ("solid", 15): _quadratic(_WEDGE, 6),
+    ("surface", 4): _QUAD, ("surface", 3): _TRI,
+    ("surface", 8): _quadratic(_QUAD, 4), ("surface", 6): _quadratic(_TRI, 3),
+    ("line", 2): ((0, 1),),
+}
+
+_SURFACE_PREFIXES = ("CPS", "CPE", "CAX", "S", "M3D", "CQUAD", "CTRIA", "CSHEAR")
+_LINE_PREFIXES = ("B", "T", "CBAR", "CBEAM", "CROD", "CTUBE", "CONROD", "CBUSH", "CELAS", "SPRING", "DASHPOT", "GAP")
+
+
+def family(element_type: str) -> str:
+    t = element_type.upper()
+    if t.startswith(("C3D", "CHEXA", "CTETRA", "CPENTA", "CPYRA", "F3D")):
+        return "solid"
+    if t.startswith(_SURFACE_PREFIXES):
+        return "surface"
+    if t.startswith(_LINE_PREFIXES):
+        return "line"
+    return "other"
+
+
+def edge_pairs(element_type: str, nodes: int) -> tuple[tuple[int, int], ...]:
+    found = EDGES.get((family(element_type), nodes))
+    if found is not None:
+        return found
+    return tuple(combinations(range(nodes), 2))
+
+
+def node_index(node_ids: np.ndarray, wanted: np.ndarray) -> np.ndarray:
+    """Row index in ``node_ids`` of every id in ``wanted`` (-1 where the node is not defined)."""
+    ids = np.asarray(node_ids, dtype=np.int64)
+    order = np.argsort(ids, kind="stable")
+    sorted_ids = ids[order]
+    pos = np.searchsorted(sorted_ids, wanted)
+    pos = np.clip(pos, 0, max(sorted_ids.size - 1, 0))
+    ok = sorted_ids.size > 0
+    found = (sorted_ids[pos] == wanted) if ok else np.zeros(np.shape(wanted), dtype=bool)
+    return np.where(found, order[pos] if ok else -1, -1)
+
+
+def min_edge_lengths(conn: np.ndarray, node_ids: np.ndarray, coords: np.ndarray, element_type: str) -> np.ndarray:
+    """Smallest edge segment of every element (nan for an element with an undefined node)."""
+    conn = np.asarray(conn, dtype=np.int64)
+    if conn.ndim != 2 or conn.shape[0] == 0:
+        return np.zeros(0)
+    coords = np.asarray(coords, dtype=float)
+    if coords.shape[1] < 3:
+        coords = np.pad(coords, ((0, 0), (0, 3 - coords.shape[1])))
+    pairs = np.array(edge_pairs(element_type, conn.shape[1]), dtype=np.int64)
+    idx = node_index(node_ids, conn)
+    xyz = coords[np.where(idx < 0, 0, idx)]                    # (n, nodes, 3)
+    d = np.linalg.norm(xyz[:, pairs[:, 0]] - xyz[:, pairs[:, 1]], axis=2)   # (n, edges)
+    out = d.min(axis=1)
+    out[(idx < 0).any(axis=1)] = np.nan
+    return out
+
+
+def smallest_edge(conn: np.ndarray, node_ids: np.ndarray, coords: np.ndarray, element_type: str,
+                  mask: Optional[np.ndarray] = None) -> Optional[float]:
+    """The smallest edge over the (selected) elements; None when none can be measured."""
+    conn = np.asarray(conn)
+    if mask is not None:
+        conn = conn[mask]
+    lengths = min_edge_lengths(conn, node_ids, coords, element_type)
+    lengths = lengths[np.isfinite(lengths) & (lengths > 0)] if lengths.size else lengths
+    return float(lengths.min()) if lengths.size else None
