@@ -1,0 +1,213 @@
+"""analysis/*: what the analysis needs from the materials (density, conductivity, specific heat,
+expansion, elastic behaviour).
+
+A material is *used* when a section refers to it (``linter.usage.material_usage``); findings sit on
+the material's definition and name the step that needs the data. Temperature ranges and the explicit
+time step are in the sibling modules ``analysis_temperature`` and ``analysis_explicit``.
+"""
+from __future__ import annotations
+
+from typing import Optional
+
+from linter.model import DeckModel, Material
+from linter.registry import rule
+from linter.usage import material_usage, resolve_set
+
+CCX_MAT = "CalculiX User's Manual, Materials: data required by the analysis (formats.md 2.1)"
+NAS_SOL = "Nastran solution sequences and the material data each needs (formats.md 5.9)"
+MECHANICAL = ("elastic", "hyperelastic", "hyperfoam", "deformation_plasticity", "user")
+THERMAL_ROLES = ("thermal",)
+
+
+def used_materials(model: DeckModel) -> list[Material]:
+    """Materials that some section refers to, in definition order."""
+    usage = material_usage(model)
+    return [m for k, m in model.materials.items() if k in usage]
+
+
+def element_count(model: DeckModel, key: str) -> int:
+    return sum(sum(u.counts.values()) for u in material_usage(model).get(key, ()))
+
+
+def structural_use(model: DeckModel, key: str) -> bool:
+    return any(u.role not in THERMAL_ROLES for u in material_usage(model).get(key, ()))
+
+
+def has_positive(mat: Material, kind: str, column: str) -> bool:
+    """The material has a block of that kind with some positive value (a zero density is no density)."""
+    for blk in mat.find(kind):
+        if not blk.rows:
+            continue
+        try:
+            vals = blk.column(column) if column else None
+        except ValueError:
+            return True
+        if vals is None or (vals > 0).any():
+            return True
+    return False
+
+
+def _blocks_of(model: DeckModel, key: Optional[str]) -> Optional[set]:
+    if key is None:
+        return None
+    sel = resolve_set(model, key)
+    return set(sel.parts) if sel else set()
+
+
+def materials_on(model: DeckModel, target: Optional[str]) -> set:
+    """Keys of the used materials whose elements overlap the element set ``target`` (all when None)."""
+    usage = material_usage(model)
+    if target is None:
+        return set(usage)
+    blocks = _blocks_of(model, target)
+    out = set()
+    for key, uses in usage.items():
+        for u in uses:
+            if u.section.elset == target or (blocks and blocks & (_blocks_of(model, u.section.elset) or set())):
+                out.add(key)
+    return out
+
+
+def mass_cover(model: DeckModel, key: str) -> tuple[bool, list]:
+    """(covered, untargeted sources): a mass source on a set that overlaps the material's elements covers it.
+
+    A source without a target (e.g. a point mass on a grid) gives mass to the model but not to the
+    material's elements; it is returned so that the caller can lower the severity."""
+    untargeted = [ms for ms in model.mass_sources if ms.target is None]
+    for ms in model.mass_sources:
+        if ms.target is not None and key in materials_on(model, ms.target):
+            return True, untargeted
+    return False, untargeted
+
+
+def _steps_needing(model: DeckModel, need: str):
+    for step, proc in model.procedures():
+        if proc.needs.get(need):
+            yield step, proc
+
+
+def _step_words(step, proc) -> str:
+    return f"step {step.name} ({proc.card or proc.kind}, line {proc.loc.line})"
+
+
+@rule("analysis/missing-density", severity="error",
+      title="The analysis needs a density the material does not have",
+      rationale="Frequency, dynamic and transient heat-transfer analyses need mass (density); gravity and "
+                "centrifugal loads need it to load the structure. Without it the solver stops, or the "
+                "material's elements carry no mass or load.",
+      references=(CCX_MAT, NAS_SOL), data="need (mass|transient_thermal|body_load), step, line, point_masses")
+def missing_density(model, ctx):
+    reported = set()
+    for need in ("mass", "transient_thermal"):
+        for step, proc in _steps_needing(model, need):
+            for mat in used_materials(model):
+                if mat.key in reported or has_positive(mat, "density", "rho"):
+                    continue
+                covered, untargeted = mass_cover(model, mat.key) if need == "mass" else (False, [])
+                if covered:
+                    continue
+                reported.add(mat.key)
+                what = "mass for the dynamics" if need == "mass" else "a density for the heat capacity"
+                sev, extra = None, ""
+                if untargeted:
+                    sev = "warning"
+                    extra = (f"; the model has {len(untargeted)} point mass(es) not tied to these elements, so it "
+                             "runs, but this material's elements carry no mass")
+                yield ctx.finding(
+                    f"material {mat.name} has no density, but {_step_words(step, proc)} needs {what} "
+                    f"({element_count(model, mat.key)} element(s) use it){extra}",
+                    mat.loc, material=mat.name, severity=sev,
+                    data={"need": need, "step": step.name, "line": proc.loc.line,
+                          "point_masses": len(untargeted)})
+    for step in model.steps:
+        for load in step.loads:
+            if load.kind not in ("gravity", "centrifugal"):
+                continue
+            for mat in used_materials(model):
+                if mat.key in reported or mat.key not in materials_on(model, load.target):
+                    continue
+                if has_positive(mat, "density", "rho"):
+                    continue
+                reported.add(mat.key)
+                yield ctx.finding(
+                    f"material {mat.name} has no density, so the {load.kind} load of step {step.name} (line "
+                    f"{load.loc.line}) puts no load on its elements", mat.loc, material=mat.name,
+                    severity="warning", data={"need": "body_load", "step": step.name, "line": load.loc.line,
+                                              "point_masses": 0})
+
+
+def _simple_need(model, ctx, need: str, kind: str, column: str, words: str):
+    for step, proc in _steps_needing(model, need):
+        for mat in used_materials(model):
+            if has_positive(mat, kind, column):
+                continue
+            yield ctx.finding(f"material {mat.name} has no {words}, but {_step_words(step, proc)} needs it",
+                              mat.loc, material=mat.name, data={"step": step.name, "line": proc.loc.line})
+        return  # one finding per material: the first step that needs it
+
+
+@rule("analysis/missing-conductivity", severity="error",
+      title="A heat-transfer step needs a conductivity the material does not have",
+      rationale="Heat conduction needs the thermal conductivity of every material that conducts.",
+      references=(CCX_MAT, NAS_SOL), data="step, line")
+def missing_conductivity(model, ctx):
+    yield from _simple_need(model, ctx, "thermal", "conductivity", "", "thermal conductivity")
+
+
+@rule("analysis/missing-specific-heat", severity="error",
+      title="A transient heat-transfer step needs a specific heat the material does not have",
+      rationale="Transient heat transfer stores heat in rho*c; without a specific heat there is no heat capacity.",
+      references=(CCX_MAT, NAS_SOL), data="step, line")
+def missing_specific_heat(model, ctx):
+    yield from _simple_need(model, ctx, "transient_thermal", "specific_heat", "c", "specific heat")
+
+
+def initial_values(model) -> list[float]:
+    return [ld.value for ld in model.initial_temperatures if ld.value is not None]
+
+
+@rule("analysis/missing-expansion", severity="warning",
+      title="A temperature change is applied to a material without thermal expansion",
+      rationale="A structural step with temperatures that differ from the initial ones strains only "
+                "materials with an expansion coefficient; without one, the temperature load does nothing "
+                "to that material (the solver does not check this).",
+      references=(CCX_MAT, NAS_SOL), data="step, line, temperature, initial")
+def missing_expansion(model, ctx):
+    init = initial_values(model)
+    for step in model.steps:
+        if not any(p.needs.get("structural") for p in step.procedures):
+            continue
+        changed = [ld for ld in step.loads if ld.kind == "temperature" and ld.value is not None
+                   and (not init or any(abs(ld.value - t0) > 0 for t0 in init))]
+        if not changed:
+            continue
+        ld = changed[0]
+        base = (f"initial temperature {min(init):.4g}" + (f"..{max(init):.4g}" if max(init) != min(init) else "")
+                if init else "no initial temperature (the solver's default)")
+        for mat in used_materials(model):
+            if mat.has("expansion") or not structural_use(model, mat.key):
+                continue
+            yield ctx.finding(
+                f"material {mat.name} has no thermal expansion, but step {step.name} applies temperature "
+                f"{ld.value:.4g} (line {ld.loc.line}) against {base}; temperature loads act on node sets, so "
+                "every material of the model is compared", mat.loc, material=mat.name,
+                data={"step": step.name, "line": ld.loc.line, "temperature": ld.value,
+                      "initial": init[0] if init else None})
+        return
+
+
+@rule("analysis/missing-elastic", severity="error",
+      title="A structural step uses a material without elastic behaviour",
+      rationale="A mechanical analysis needs a stiffness for every material of the structure: *ELASTIC "
+                "(or a hyperelastic, deformation-plasticity or user law), MAT1/MAT2/MAT8/MAT9.",
+      references=(CCX_MAT, NAS_SOL), data="step, line")
+def missing_elastic(model, ctx):
+    for step, proc in _steps_needing(model, "structural"):
+        for mat in used_materials(model):
+            if any(mat.has(k) for k in MECHANICAL) or not structural_use(model, mat.key):
+                continue
+            yield ctx.finding(f"material {mat.name} has no elastic behaviour, but {_step_words(step, proc)} "
+                              "is a structural analysis", mat.loc, material=mat.name,
+                              data={"step": step.name, "line": proc.loc.line},
+                              restates=(("no-mechanical", mat.key),))
+        return

@@ -1,0 +1,130 @@
+"""analysis/explicit-time-step: the stable time increment each material allows in an explicit step.
+
+dt ~ L_e / c_d per material (physics.md 6.3), with L_e the smallest edge of the material's elements
+(``linter.physics.mesh``) and c_d the dilatational wave speed: sqrt(M/rho) from the isotropic elastic
+row, or sqrt((K0 + 4 mu0/3)/rho) from ``Material.derived["hyper"]``. When connectivity or nodes are
+not available, L_e is estimated as (bounding-box volume / element count)^(1/d) and marked as such.
+"""
+from __future__ import annotations
+
+import math
+from typing import Optional
+
+import numpy as np
+
+from linter.physics import dynamics as D
+from linter.physics import mesh as M
+from linter.registry import rule
+from linter.rules.analysis import used_materials
+from linter.usage import material_usage, resolve_set
+
+BLM = "Belytschko, Liu & Moran 2000 ch. 6, as cited in physics.md 6.3"
+
+
+def _fmt(x) -> str:
+    return f"{x:.4g}" if x is not None and math.isfinite(x) else str(x)
+
+
+def smallest_length(model, key: str) -> Optional[float]:
+    """Smallest edge of the material's elements; None when connectivity or nodes are missing."""
+    nodes = model.geometry.nodes
+    if nodes is None:
+        return None
+    got = nodes.get()
+    if got is None:
+        return None
+    node_ids, coords = got
+    best = None
+    for use in material_usage(model).get(key, ()):
+        sel = resolve_set(model, use.section.elset)
+        if not sel:
+            continue
+        for i, mask in sel.parts.items():
+            blk = model.element_blocks[i]
+            if blk.conn is None:
+                return None
+            conn = blk.conn.get()
+            if conn is None or np.size(conn) == 0:
+                continue
+            L = M.smallest_edge(conn, node_ids, coords, blk.type, mask)
+            if L is not None and (best is None or L < best):
+                best = L
+    return best
+
+
+def wave_speeds(mat) -> Optional[tuple[float, float, str]]:
+    """(c_d, c_s, source) from the elastic or hyperelastic data and the density; None if not known."""
+    dens = mat.first("density")
+    if dens is None or not dens.rows:
+        return None
+    rho = float(dens.column("rho")[0])
+    if not rho > 0:
+        return None
+    hyper = mat.derived.get("hyper") or {}
+    if "mu0" in hyper and "K0" in hyper and hyper.get("mu0") and hyper["mu0"] > 0:
+        cd = float(D.hyper_dilatational_speed(hyper["K0"], hyper["mu0"], rho))
+        return cd, float(D.hyper_shear_speed(hyper["mu0"], rho)), "hyperelastic K0, mu0"
+    el = mat.first("elastic")
+    if el is None or el.form != "iso" or not el.rows:
+        return None
+    E, nu = el.column("E"), el.column("nu")
+    ok = (E > 0) & np.isfinite(nu)
+    if not ok.any():
+        return None
+    cd = D.dilatational_speed(E[ok], nu[ok], rho)
+    k = int(np.argmax(cd))  # the fastest row sets the step
+    return float(cd[k]), float(D.shear_speed(E[ok][k], nu[ok][k], rho)), "E, nu"
+
+
+@rule("analysis/explicit-time-step", severity="note",
+      title="Estimated stable time increment of an explicit dynamic step",
+      rationale="The central-difference method is stable for dt <= L_e / c_d. Near-incompressible materials "
+                "have a dilatational speed far above the shear speed, so their bulk stiffness, not their "
+                "shear stiffness, sets (and shrinks) the step.",
+      references=(BLM,), data="length, length_estimated, cd, cs, dt, dt_shear, ratio, source")
+def explicit_time_step(model, ctx):
+    explicit = [(s, p) for s, p in model.procedures() if p.kind == "dynamic-explicit"]
+    if not explicit:
+        return
+    step, proc = explicit[0]
+    limit = float(ctx.threshold("analysis.explicit_ratio_warn"))
+    total = sum(b.count for b in model.element_blocks)
+    guess = D.estimated_length(model.geometry.bbox_min, model.geometry.bbox_max, total)
+    for mat in used_materials(model):
+        speeds = wave_speeds(mat)
+        if speeds is None:
+            continue
+        cd, cs, source = speeds
+        if math.isinf(cd):
+            yield ctx.finding(f"material {mat.name} is incompressible ({source}): its dilatational wave speed is "
+                              f"infinite, so explicit step {step.name} has no stable time increment; give it a "
+                              "finite bulk modulus", mat.loc, material=mat.name, severity="warning",
+                              data={"length": None, "length_estimated": False, "cd": cd, "cs": cs, "dt": 0.0,
+                                    "dt_shear": None, "ratio": math.inf, "source": source})
+            continue
+        L = smallest_length(model, mat.key)
+        estimated = L is None
+        if estimated:
+            L = guess
+        if L is None:
+            yield ctx.finding(f"material {mat.name}: c_d = {_fmt(cd)}; the element size is not known, so the "
+                              f"stable time increment of step {step.name} could not be estimated",
+                              mat.loc, material=mat.name,
+                              data={"length": None, "length_estimated": True, "cd": cd, "cs": cs, "dt": None,
+                                    "dt_shear": None, "ratio": None, "source": source})
+            continue
+        dt = float(D.stable_time_step(L, cd))
+        dts = float(D.stable_time_step(L, cs))
+        ratio = dts / dt if dt > 0 else math.inf
+        where = (f"estimated element length {_fmt(L)} (bounding box over {total} elements; element lengths "
+                 "not available)" if estimated else f"smallest element edge {_fmt(L)}")
+        msg = (f"material {mat.name} in explicit step {step.name}: stable time increment about {_fmt(dt)} "
+               f"({where}, dilatational wave speed {_fmt(cd)} from {source}; deck units)")
+        sev = None
+        if ratio > limit:
+            sev = "warning"
+            msg += (f"; near-incompressibility makes it {_fmt(ratio)} times smaller than the shear-wave "
+                    f"estimate {_fmt(dts)}")
+        yield ctx.finding(msg, mat.loc, material=mat.name, severity=sev,
+                          data={"length": L, "length_estimated": estimated, "cd": cd, "cs": cs, "dt": dt,
+                                "dt_shear": dts, "ratio": ratio, "source": source})

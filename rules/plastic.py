@@ -1,0 +1,258 @@
+"""plastic/*: sanity of hardening tables (physics.md 4; formats.md 2.4 *PLASTIC, 5.3 MATS1/TABLES1).
+
+Each temperature group of a table (consecutive rows with the same temperature: the normal layout
+of a hardening table) is one curve. Keyword ``*PLASTIC`` rows are (Mises stress, equivalent
+plastic strain); bulk MATS1/TABLES1 tables arrive as the same blocks, and when the bulk parser
+marks the x axis as total strain (see :func:`strain_is_total`) the curve is checked as a total
+stress-strain curve that starts at the origin. Johnson-Cook and user hardening carry constants,
+not a table, and are not checked here.
+"""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from linter.physics import plastic as P
+from linter.registry import rule
+
+CCX_PL = "CalculiX User's Manual *PLASTIC (formats.md 2.4)"
+NAS_PL = "Nastran bulk data MATS1, TABLES1 (formats.md 5.3)"
+PHYS = "physics.md 4, Plasticity input sanity"
+TABLE_FORMS = ("ISOTROPIC", "KINEMATIC", "COMBINED", "")
+MAX_LISTED = 5
+
+
+def _fmt(x) -> str:
+    return f"{x:.4g}" if x is not None and math.isfinite(x) else str(x)
+
+
+def strain_is_total(block) -> bool:
+    """True when the parser says the strain column holds total strain (bulk TABLES1 curves).
+
+    Accepted option spellings: ``x_total_strain`` / ``total_strain`` (truthy), or ``strain`` /
+    ``x_axis`` / ``XAXIS`` equal to "total"."""
+    o = block.options
+    if o.get("x_total_strain") or o.get("total_strain") is True:
+        return True
+    for k in ("strain", "x_axis", "XAXIS", "strain_measure"):
+        v = o.get(k)
+        if isinstance(v, str) and v.strip().lower() in ("total", "total strain", "total-strain"):
+            return True
+    return False
+
+
+def plastic_blocks(model):
+    """(material, block) for every tabulated hardening block of every material."""
+    for mat in list(model.materials.values()) + list(model.duplicate_materials):
+        for blk in mat.find("plastic"):
+            if blk.form != "iso":
+                continue
+            if str(blk.options.get("HARDENING", "")).upper() not in TABLE_FORMS:
+                continue
+            yield mat, blk
+
+
+def curves(block):
+    """(temperature or None, row indices, stress, strain) for every temperature group."""
+    stress, strain = block.column("stress"), block.column("plastic_strain")
+    temps = block.temperatures()
+    for idx in P.temperature_groups(temps):
+        t = temps[idx[0]]
+        yield (None if math.isnan(t) else float(t)), idx, stress[idx], strain[idx]
+
+
+def elastic_modulus(mat, temperature=None):
+    """E of the material's isotropic elastic block (the row nearest the temperature), or None."""
+    blk = mat.first("elastic")
+    if blk is None or blk.form != "iso" or not blk.rows:
+        return None
+    e = blk.column("E")
+    if temperature is not None and len(blk.rows) > 1:
+        t = blk.temperatures()
+        if np.isfinite(t).all():
+            return float(e[int(np.argmin(np.abs(t - temperature)))])
+    return float(e[0])
+
+
+def density(mat):
+    blk = mat.first("density")
+    if blk is None or not blk.rows:
+        return None
+    rho = float(blk.column("rho")[0])
+    return rho if rho > 0 else None
+
+
+def _where(mat, t) -> str:
+    return f"material {mat.name}" + (f", curve at T = {_fmt(t)}" if t is not None else "")
+
+
+def _listed(items: list[str]) -> str:
+    more = len(items) - MAX_LISTED
+    return "; ".join(items[:MAX_LISTED]) + (f"; and {more} more" if more > 0 else "")
+
+
+@rule("plastic/first-strain-not-zero", severity="error",
+      title="The first point of a hardening curve must be at zero plastic strain",
+      rationale="The first point of each curve is the initial yield stress, at plastic strain 0; "
+                "a table that starts elsewhere has no defined yield point (a total-strain curve must "
+                "start at the origin).",
+      references=(CCX_PL, NAS_PL, PHYS), data="temperature, line, first_strain, total_strain")
+def first_strain_not_zero(model, ctx):
+    for mat, blk in plastic_blocks(model):
+        total = strain_is_total(blk)
+        for t, idx, s, e in curves(blk):
+            bad = e[0] != 0 or (total and s[0] != 0)
+            if not bad:
+                continue
+            row = blk.rows[idx[0]]
+            if total:
+                msg = (f"{_where(mat, t)}: the total stress-strain curve starts at (strain {_fmt(e[0])}, "
+                       f"stress {_fmt(s[0])}) on line {row.loc.line}, not at the origin")
+            else:
+                msg = (f"{_where(mat, t)}: the first point has plastic strain {_fmt(e[0])} on line "
+                       f"{row.loc.line}; it must be 0 (the first point is the initial yield stress)")
+            yield ctx.finding(msg, row.loc, material=mat.name,
+                              data={"temperature": t, "line": row.loc.line, "first_strain": float(e[0]),
+                                    "total_strain": total},
+                              defect=("plastic-start", mat.key, blk.loc.line, t))
+
+
+@rule("plastic/strain-not-increasing", severity="error",
+      title="Plastic strain must increase strictly along a hardening curve",
+      rationale="The solver looks the yield stress up by plastic strain; a repeated or falling strain "
+                "makes the curve ambiguous or is rejected.",
+      references=(CCX_PL, NAS_PL, PHYS), data="temperature, points: [{line, strain, previous}]")
+def strain_not_increasing(model, ctx):
+    for mat, blk in plastic_blocks(model):
+        for t, idx, s, e in curves(blk):
+            bad = P.not_increasing(e)
+            if not bad.size:
+                continue
+            pts = [{"line": blk.rows[idx[k]].loc.line, "strain": float(e[k]), "previous": float(e[k - 1])}
+                   for k in bad]
+            text = _listed([f"{_fmt(p['previous'])} then {_fmt(p['strain'])} (line {p['line']})" for p in pts])
+            yield ctx.finding(f"{_where(mat, t)}: the strain does not increase: {text}",
+                              blk.rows[idx[bad[0]]].loc, material=mat.name,
+                              data={"temperature": t, "points": pts})
+
+
+@rule("plastic/softening", severity="warning",
+      title="The yield stress falls along a hardening curve",
+      rationale="Softening makes the response mesh dependent and the solution unstable. An engineering "
+                "stress-strain curve past its maximum (necking) looks like this: convert to true stress "
+                "and true plastic strain, and stop at the ultimate load.",
+      references=(PHYS,), data="temperature, points: [{line, stress, previous, slope}]")
+def softening(model, ctx):
+    for mat, blk in plastic_blocks(model):
+        for t, idx, s, e in curves(blk):
+            bad = P.softening(s)
+            if not bad.size:
+                continue
+            slopes = P.hardening_slopes(s, e)
+            pts = [{"line": blk.rows[idx[k]].loc.line, "stress": float(s[k]), "previous": float(s[k - 1]),
+                    "slope": float(slopes[k - 1])} for k in bad]
+            text = _listed([f"{_fmt(p['previous'])} to {_fmt(p['stress'])} (line {p['line']})" for p in pts])
+            yield ctx.finding(
+                f"{_where(mat, t)}: the stress falls: {text}. An engineering stress-strain curve past its "
+                "maximum looks like this; use true stress against true plastic strain up to necking",
+                blk.rows[idx[bad[0]]].loc, material=mat.name, data={"temperature": t, "points": pts})
+
+
+@rule("plastic/total-strain-given", severity="warning",
+      title="The strain column looks like total strain or percent",
+      rationale="A hardening table takes plastic strain eps_p = eps - sigma/E as a fraction. A point whose "
+                "strain equals sigma/E is the elastic part of a total-strain curve; strains above 2 are "
+                "probably percent.",
+      references=(PHYS, CCX_PL), data="temperature, line, strain, elastic_strain, reason")
+def total_strain_given(model, ctx):
+    tol = float(ctx.threshold("plastic.total_strain_rel_tol"))
+    for mat, blk in plastic_blocks(model):
+        if strain_is_total(blk):
+            continue
+        for t, idx, s, e in curves(blk):
+            E = elastic_modulus(mat, t)
+            head = slice(0, min(2, len(idx)))
+            hit = None
+            if E and E > 0:
+                match = np.flatnonzero(P.elastic_strain_match(s[head], e[head], E, tol))
+                if match.size:
+                    k = int(match[0])
+                    hit = (k, f"the strain {_fmt(e[k])} equals the elastic strain sigma/E = {_fmt(s[k] / E)} "
+                              f"(E = {_fmt(E)}): the column is probably total strain; use eps_p = eps - sigma/E",
+                           "elastic-strain")
+            if hit is None and np.nanmax(e) > P.PERCENT_STRAIN_LIMIT:
+                k = int(np.nanargmax(e))
+                hit = (k, f"the largest strain is {_fmt(e[k])}: strains look like percent, not a fraction",
+                       "percent")
+            if hit is None:
+                continue
+            k, text, reason = hit
+            row = blk.rows[idx[k]]
+            yield ctx.finding(f"{_where(mat, t)}, line {row.loc.line}: {text}", row.loc, material=mat.name,
+                              data={"temperature": t, "line": row.loc.line, "strain": float(e[k]),
+                                    "elastic_strain": float(s[k] / E) if E else None, "reason": reason})
+
+
+def initial_yield(blk, s, e) -> tuple[float, int]:
+    """(initial yield stress, index in the curve): the second point of a total-strain curve from the origin."""
+    if strain_is_total(blk) and len(s) > 1 and s[0] == 0 and e[0] == 0:
+        return float(s[1]), 1
+    return float(s[0]), 0
+
+
+@rule("plastic/zero-yield", severity="error",
+      title="The initial yield stress is zero or negative",
+      rationale="The first stress of a hardening curve is the initial yield stress; zero or less means the "
+                "material flows at once. Together with *CREEP a zero yield surface is how CalculiX models "
+                "pure creep, so that case is a warning.",
+      references=(CCX_PL, "CalculiX User's Manual *CREEP (formats.md 2.4)", PHYS),
+      data="temperature, line, yield_stress, with_creep")
+def zero_yield(model, ctx):
+    for mat, blk in plastic_blocks(model):
+        creep = mat.has("creep")
+        for t, idx, s, e in curves(blk):
+            y, k = initial_yield(blk, s, e)
+            if y > 0 or math.isnan(y):
+                continue
+            row = blk.rows[idx[k]]
+            extra = ("; with *CREEP this is the usual way to model creep without a yield surface"
+                     if creep and y == 0 else "")
+            yield ctx.finding(f"{_where(mat, t)}: the initial yield stress is {_fmt(y)} on line {row.loc.line}"
+                              f"{extra}", row.loc, material=mat.name,
+                              severity="warning" if creep and y == 0 else None,
+                              data={"temperature": t, "line": row.loc.line, "yield_stress": y, "with_creep": creep},
+                              defect=("plastic-yield", mat.key, blk.loc.line, t))
+
+
+@rule("plastic/yield-vs-modulus", severity="warning",
+      title="Initial yield strain sigma_y/E is implausible for the material",
+      rationale="sigma_y/E is about 1e-3 to 1e-2 for metals and up to a few percent for polymers; far "
+                "outside, the yield stress and E are probably in different units (e.g. Pa against MPa).",
+      references=(PHYS, "physics.md 5.5 handbook properties"),
+      data="temperature, line, yield_stress, E, yield_strain, material_class, band")
+def yield_vs_modulus(model, ctx):
+    metal = tuple(float(x) for x in ctx.threshold("plastic.yield_strain_metal"))
+    polymer = tuple(float(x) for x in ctx.threshold("plastic.yield_strain_polymer"))
+    for mat, blk in plastic_blocks(model):
+        for t, idx, s, e in curves(blk):
+            y, k = initial_yield(blk, s, e)
+            E = elastic_modulus(mat, t)
+            if not (y > 0) or not E or not (E > 0):
+                continue
+            cls = P.material_class(E, density(mat))
+            band = metal if cls == "metal" else polymer
+            ratio = y / E
+            if band[0] <= ratio <= band[1]:
+                continue
+            row = blk.rows[idx[k]]
+            judged = {"metal": "a metal", "polymer": "a polymer"}.get(cls, "a metal or polymer (class not clear)")
+            hint = (" (a yield stress in Pa with E in MPa, or similar unit mix-up?)" if ratio > 1
+                    else " (the yield stress in MPa with E in Pa, or similar?)" if ratio < band[0] / 100 else "")
+            yield ctx.finding(
+                f"{_where(mat, t)}: initial yield strain sigma_y/E = {_fmt(y)}/{_fmt(E)} = {_fmt(ratio)} is outside "
+                f"{_fmt(band[0])}..{_fmt(band[1])} expected for {judged}{hint}",
+                row.loc, material=mat.name,
+                data={"temperature": t, "line": row.loc.line, "yield_stress": y, "E": E, "yield_strain": ratio,
+                      "material_class": cls, "band": list(band)},
+                restates=(("plastic-yield", mat.key, blk.loc.line, t),))
