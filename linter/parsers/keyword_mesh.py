@@ -1,0 +1,239 @@
+"""Mesh cards of keyword decks, read as byte ranges: ``*NODE``, ``*ELEMENT``, ``*ELSET``.
+
+Nothing here makes one Python object per node or element: counts come from
+``bytes.count``; ids, connectivity and coordinates are parsed with numpy, lazily.
+"""
+from __future__ import annotations
+
+import re
+from typing import Optional
+
+import numpy as np
+
+from ..model import ElementBlock, ElementSet, Lazy, Loc, norm_key
+from .keyword_lex import KeywordLine, Reader, is_int
+
+#: nodes per element for types with more than 15 nodes (their elements span two lines);
+#: used when the element catalogue is not available
+LONG_TYPES = {"C3D20": 20, "C3D20R": 20, "C3D20RI": 20, "DC3D20": 20, "C3D20T": 20, "C3D20RT": 20,
+              "C3D15": 15, "DC3D15": 15, "F3D20": 20}
+EXACT_NODES_LIMIT = 200_000
+SAMPLE_LINES = 20_000
+_COMMENT_LINE = re.compile(rb"(?m)^[ \t]*\*\*.*\n?")
+_BLANK_LINE = re.compile(rb"(?m)^[ \t,]*\n")
+_TRAILING = re.compile(rb",[ \t]*(?=\n)")
+
+
+def _clean(chunk: bytes) -> bytes:
+    """Comments, blank lines and trailing commas removed; D exponents as E; newline at the end."""
+    if b"**" in chunk:
+        chunk = _COMMENT_LINE.sub(b"", chunk)
+    if not chunk.endswith(b"\n"):
+        chunk += b"\n"
+    chunk = _BLANK_LINE.sub(b"", chunk)
+    if b",\n" in chunk or b", \n" in chunk or b",\t" in chunk:
+        chunk = _TRAILING.sub(b"", chunk)
+    return chunk
+
+
+def numbers(chunk: bytes) -> np.ndarray:
+    """All comma/line separated numbers of a cleaned chunk as float64 (nan where a field is not a number)."""
+    chunk = _clean(chunk)
+    if not chunk.strip():
+        return np.zeros(0)
+    if b"d" in chunk or b"D" in chunk:
+        chunk = chunk.replace(b"D", b"E").replace(b"d", b"e")
+    flat = chunk.replace(b"\n", b",").rstrip(b",")
+    try:
+        arr = np.array(flat.split(b","), dtype=float) if len(flat) < 4096 else None
+    except ValueError:
+        arr = None
+    if arr is None:
+        import warnings
+
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            arr = np.fromstring(flat, dtype=float, sep=",")  # noqa: NPY201 - text mode is fine
+        if arr.size != flat.count(b",") + 1:         # a field that is not a number: slow exact path
+            out = []
+            for f in flat.split(b","):
+                try:
+                    out.append(float(f))
+                except ValueError:
+                    out.append(np.nan)
+            arr = np.array(out, dtype=float)
+    return arr
+
+
+def _ints(data: bytes, start: int, end: int, width: int) -> np.ndarray:
+    arr = numbers(data[start:end])
+    arr = arr[np.isfinite(arr)].astype(np.int64)
+    if width <= 0 or arr.size % width:
+        width = max(width, 1)
+        arr = arr[: arr.size - arr.size % width]
+    return arr.reshape(-1, width)
+
+
+def read_element(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: int, dialect: str,
+                 catalogue, model, nlines: int) -> None:
+    etype_w = (kw.get("TYPE") or "").strip()
+    etype = "".join(etype_w.split()).upper()
+    if not etype:
+        rd.issue("malformed-data", "*ELEMENT without TYPE= (CalculiX: element type is lacking)", kw.loc.line)
+    nodes = 0
+    if catalogue is not None and etype:
+        entry = catalogue.get(etype, dialect)
+        if entry is None:
+            rd.issue("unknown-element-type", f"element type {etype_w} is not a {dialect} element type "
+                     "(the solver refuses it)", kw.loc.line, type=etype)
+        else:
+            nodes = int(getattr(entry, "nodes", 0) or 0)
+    if not nodes:
+        nodes = LONG_TYPES.get(etype, 0)
+    if nodes > 15:
+        vals = numbers(rd.data[start:end])
+        count = int(vals.size // (nodes + 1))
+        if vals.size % (nodes + 1):
+            rd.issue("truncated", f"*ELEMENT, TYPE={etype_w}: {vals.size} numbers are not a whole number of "
+                     f"elements of {nodes} nodes", kw.loc.line, type=etype)
+    else:
+        count = nlines
+        if not nodes and count:
+            first = next(rd.lines(start, min(end, start + 4096), first_line), None)
+            nodes = max(0, len(first.fields) - 1) if first else 0
+    width = nodes + 1
+    data = rd.data
+    table = Lazy(lambda: _ints(data, start, end, width))
+    elset_w = kw.get("ELSET")
+    blk = ElementBlock(type=etype, type_as_written=etype_w, count=count, loc=kw.loc,
+                       elset=norm_key(elset_w) if elset_w else None, nodes=nodes,
+                       ids=Lazy(lambda: table.get()[:, 0].copy()), conn=Lazy(lambda: table.get()[:, 1:]))
+    model.element_blocks.append(blk)
+    if elset_w:
+        es = _set(model, elset_w, kw.loc)
+        es.blocks.append(len(model.element_blocks) - 1)
+
+
+def _set(model, name: str, loc: Loc) -> ElementSet:
+    key = norm_key(name)
+    es = model.element_sets.get(key)
+    if es is None:
+        es = model.element_sets[key] = ElementSet(name=name.strip(), key=key, loc=loc)
+    es.defined_at.append(loc)
+    return es
+
+
+def read_elset(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: int, model,
+               card_defined: set) -> None:
+    name = kw.get("ELSET")
+    if not name:
+        rd.issue("malformed-data", "*ELSET without ELSET= (the set name is required)", kw.loc.line)
+        return
+    key = norm_key(name)
+    if key in card_defined:
+        first = model.element_sets[key].defined_at[0] if key in model.element_sets else kw.loc
+        rd.issue("duplicate-set", f"element set {name.strip()} is defined again (first at {first}); "
+                 "CalculiX adds the elements to it", kw.loc.line, set=key)
+    card_defined.add(key)
+    es = _set(model, name, kw.loc)
+    generate = "GENERATE" in kw.params
+    if not generate and end - start > 1 << 20:      # big explicit set: numpy, no per-line Python
+        vals = numbers(rd.data[start:end])
+        if np.isfinite(vals).all():
+            es.ids.append(vals.astype(np.int64))
+            return
+    for line in rd.lines(start, end, first_line):
+        if generate:
+            f = [x for x in line.fields]
+            if len(f) < 2 or not all(is_int(x) for x in f[:3] if x != ""):
+                rd.issue("malformed-data", f"*ELSET, GENERATE needs 'first, last[, increment]': {line.raw.strip()}",
+                         line.loc.line)
+                continue
+            a, b = int(f[0]), int(f[1])
+            inc = int(f[2]) if len(f) > 2 and f[2] else 1
+            if inc <= 0:
+                rd.issue("malformed-data", f"*ELSET, GENERATE increment {inc} is not positive", line.loc.line)
+                continue
+            es.ids.append(np.arange(a, b + 1, inc, dtype=np.int64))
+            continue
+        ids = []
+        for f in line.fields:
+            if not f:
+                continue
+            if is_int(f):
+                ids.append(int(f))
+            else:
+                es.nested.append(norm_key(f))
+        if ids:
+            es.ids.append(np.array(ids, dtype=np.int64))
+
+
+def read_node(rd: Reader, kw: KeywordLine, start: int, end: int, model, nlines: int) -> None:
+    n = nlines
+    geo = model.geometry
+    geo.node_count += n
+    if n == 0:
+        return
+    data = rd.data
+    if n <= EXACT_NODES_LIMIT:
+        table = _node_table(data[start:end])
+        exact = True
+    else:
+        table = _node_sample(data, start, end)
+        exact = False
+    if table.size:
+        lo, hi = np.nanmin(table[:, 1:], axis=0), np.nanmax(table[:, 1:], axis=0)
+        if geo.bbox_min is None:
+            geo.bbox_min, geo.bbox_max = lo, hi
+        else:
+            geo.bbox_min, geo.bbox_max = np.minimum(geo.bbox_min, lo), np.maximum(geo.bbox_max, hi)
+    if not exact:
+        geo.exact = False
+        geo.note = (f"bounding box estimated from a sample of {SAMPLE_LINES} of the {n} node lines "
+                    f"of the *NODE card at line {kw.loc.line}")
+    parts = model.extras.setdefault("_node_ranges", [])
+    parts.append((data, start, end))
+    if geo.nodes is None:
+        ranges = parts
+        geo.nodes = Lazy(lambda: _all_nodes(ranges))
+
+
+def _node_table(chunk: bytes) -> np.ndarray:
+    """(n, 4) array id, x, y, z (missing coordinates are 0, as ccx reads them)."""
+    chunk = _clean(chunk)
+    first = chunk.split(b"\n", 1)[0]
+    width = first.count(b",") + 1
+    arr = numbers(chunk)
+    if width >= 2 and arr.size % width == 0 and (chunk.count(b",") + chunk.count(b"\n")) == arr.size:
+        tab = arr.reshape(-1, width)
+    else:                                            # ragged lines
+        rows = [numbers(line) for line in chunk.split(b"\n") if line.strip()]
+        w = max(len(r) for r in rows)
+        tab = np.zeros((len(rows), w))
+        for i, r in enumerate(rows):
+            tab[i, : len(r)] = r
+    out = np.zeros((tab.shape[0], 4))
+    out[:, : min(4, tab.shape[1])] = tab[:, :4]
+    return out
+
+
+def _node_sample(data: bytes, start: int, end: int) -> np.ndarray:
+    step = max(1, (end - start) // SAMPLE_LINES)
+    lines = []
+    for pos in range(start, end, step):
+        a = data.find(b"\n", pos, end)
+        if a < 0:
+            break
+        b = data.find(b"\n", a + 1, end)
+        line = data[a + 1: b if b >= 0 else end]
+        if line.strip() and not line.lstrip().startswith(b"**"):
+            lines.append(line)
+    first_end = data.find(b"\n", start, end)
+    lines.append(data[start: first_end if first_end >= 0 else end])
+    return _node_table(b"\n".join(lines))
+
+
+def _all_nodes(ranges) -> tuple[np.ndarray, np.ndarray]:
+    tabs = [_node_table(d[s:e]) for d, s, e in ranges]
+    tab = np.concatenate(tabs) if tabs else np.zeros((0, 4))
+    return tab[:, 0].astype(np.int64), tab[:, 1:]
