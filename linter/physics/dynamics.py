@@ -8,27 +8,17 @@ from __future__ import annotations
 
 import numpy as np
 
-try:  # the shared isotropic conversions, when present
-    from linter.physics.elastic import shear_modulus as _shear, p_wave_modulus as _pwave  # type: ignore
-except Exception:  # pragma: no cover - fallback while the module is not there
-    _shear = _pwave = None
+from linter.physics.elastic import from_E_nu
 
 
 def shear_modulus(E, nu):
-    """G = E / (2 (1 + nu))."""
-    if _shear is not None:
-        return _shear(E, nu)
-    E, nu = np.asarray(E, dtype=float), np.asarray(nu, dtype=float)
-    return E / (2.0 * (1.0 + nu))
+    """G = E / (2 (1 + nu)) (physics.md 1.1, via ``linter.physics.elastic``)."""
+    return from_E_nu(E, nu)["G"]
 
 
 def p_wave_modulus(E, nu):
     """M = lambda + 2 mu = E (1 - nu) / ((1 + nu)(1 - 2 nu)) (inf at nu = 0.5)."""
-    if _pwave is not None:
-        return _pwave(E, nu)
-    E, nu = np.asarray(E, dtype=float), np.asarray(nu, dtype=float)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return E * (1.0 - nu) / ((1.0 + nu) * (1.0 - 2.0 * nu))
+    return from_E_nu(E, nu)["M"]
 
 
 def _speed(modulus, rho):

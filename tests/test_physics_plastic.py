@@ -1,0 +1,70 @@
+"""Hardening-table physics: conversions, tangent/plastic modulus, groups, checks, material class."""
+import numpy as np
+import pytest
+
+from linter.physics import plastic as P
+
+# 6061-T6 aluminium, engineering stress (MPa) against engineering strain: the representative points of
+# Dowling, Mechanical Behavior of Materials, Problem 4.6 / Table P4.6 (as reproduced on a public Q&A page;
+# not checked against the book). E = 50 MPa / 0.00069 = 72464 MPa from its first two points.
+AL_STRESS = np.array([0, 50, 100, 151, 199, 242, 268, 290, 298, 302, 305.0])
+AL_STRAIN = np.array([0, 0.069, 0.138, 0.210, 0.280, 0.343, 0.384, 0.438, 0.493, 0.651, 0.992]) / 100
+AL_E = 50 / 0.00069
+
+
+def test_check_values_of_the_conversion():
+    # physics.md 4 check values (computed there): E = 200000, eps_eng = 0.10, sigma_eng = 400
+    st, et = P.eng_to_true(400.0, 0.10)
+    assert st == pytest.approx(440.0)
+    assert et == pytest.approx(0.0953102, abs=1e-7)
+    _, ep = P.eng_to_plastic_table(400.0, 0.10, 200000.0)
+    assert ep == pytest.approx(0.0931102, abs=1e-7)
+
+
+def test_tangent_and_plastic_modulus_check_values():
+    # physics.md 4 check values: E = 200000, H = 2000 -> E_t = 1980.20; H = 20000 -> E_t = 18181.8
+    et = P.tangent_from_plastic(200000.0, np.array([2000.0, 20000.0]))
+    assert et == pytest.approx([1980.20, 18181.8], abs=0.05)  # quoted to 0.1
+    assert P.plastic_from_tangent(200000.0, et) == pytest.approx([2000.0, 20000.0])
+    assert np.isinf(P.plastic_from_tangent(200000.0, 200000.0))
+
+
+def test_published_aluminium_curve_to_hardening_table():
+    # Points past the proportional limit (242 MPa) of the Dowling 6061-T6 curve, converted with the
+    # standard formulas of physics.md 4 (sigma_t = sigma(1+eps), eps_p = ln(1+eps) - sigma_t/E).
+    s, e = AL_STRESS[5:], AL_STRAIN[5:]
+    st, ep = P.eng_to_plastic_table(s, e, AL_E)
+    assert st[0] == pytest.approx(242 * 1.00343)
+    assert st[-1] == pytest.approx(305 * 1.00992)
+    # hand computation for the last point: ln(1.00992) - 308.0256/72464 = 0.0098711 - 0.0042507
+    assert ep[-1] == pytest.approx(0.0056204, abs=2e-7)
+    assert (np.diff(ep) > 0).all() and (np.diff(st) > 0).all()
+    assert ep[0] == pytest.approx(0.0, abs=1e-4)  # the first point is (almost) the yield point
+
+
+def test_elastic_strain_match_finds_a_total_strain_column():
+    # the elastic points of the Dowling curve are total strains: eps = sigma/E within 2 %
+    m = P.elastic_strain_match(AL_STRESS[1:5], AL_STRAIN[1:5], AL_E, 0.1)
+    assert m.all()
+    st, ep = P.eng_to_plastic_table(AL_STRESS[6:], AL_STRAIN[6:], AL_E)
+    assert not P.elastic_strain_match(st[1:], ep[1:], AL_E, 0.1).any()
+
+
+def test_groups_slopes_and_order_checks():
+    t = np.array([20, 20, 20, 100, 100, np.nan, np.nan])
+    groups = P.temperature_groups(t)
+    assert [g.tolist() for g in groups] == [[0, 1, 2], [3, 4], [5, 6]]
+    assert P.temperature_groups([]) == []
+    assert P.not_increasing([0, 0.1, 0.1, 0.05, 0.2]).tolist() == [2, 3]
+    assert P.softening([300, 320, 310, 330]).tolist() == [2]
+    assert P.hardening_slopes([300, 320], [0, 0.01]) == pytest.approx([2000.0])
+
+
+def test_material_class_from_modulus_and_density():
+    # handbook values of physics.md 5.5 (EN 1993-1-1 steel, ASM 6061-T6, PA66 data sheet)
+    assert P.material_class(210000.0, 7.85e-9) == "metal"      # steel, mm-t-s
+    assert P.material_class(2.1e11, 7850.0) == "metal"         # steel, SI
+    assert P.material_class(68900.0, 2.7e-9) == "metal"        # Al 6061-T6, mm-t-s
+    assert P.material_class(3000.0, 1.13e-9) == "polymer"      # PA66, mm-t-s
+    assert P.material_class(210000.0) == "unknown"             # E alone fits several systems
+    assert P.material_class(-1.0, 7850.0) == "unknown"
