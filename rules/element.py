@@ -1,0 +1,138 @@
+"""element/*: whether the element technology suits the material it carries.
+
+Uses the element-technology catalogue (``ctx.catalogue``, ``linter/data/elements.yaml``) for
+the volumetric-locking grade of each element type, and the usage graph
+(``linter.usage``) for the element types and counts each material is used on.
+"""
+from __future__ import annotations
+
+import math
+
+from linter.physics.elastic import k_over_g
+from linter.registry import rule
+from linter.usage import element_types_of
+
+from ._text import listing, num, plural
+
+SEV_RANK = {"note": 1, "warning": 2, "error": 3}
+
+
+def locking_ratio(ctx) -> float:
+    """K/G above which locking is considered: the threshold, or K/G at elastic.near_incompressible_nu."""
+    explicit = ctx.threshold("element.locking_ratio")
+    if explicit is not None:
+        return float(explicit)
+    return float(k_over_g(float(ctx.threshold("elastic.near_incompressible_nu"))))
+
+
+def _hyper_ratio(mat):
+    h = mat.derived.get("hyper")
+    if isinstance(h, list):
+        vals = [r.get("K0_over_mu0") for r in h if isinstance(r, dict)]
+    elif isinstance(h, dict):
+        vals = [h.get("K0_over_mu0")]
+    else:
+        vals = []
+    vals = [float(v) for v in vals if v is not None and math.isfinite(float(v))]
+    return max(vals) if vals else None
+
+
+def _stiffness_cause(mat, ctx):
+    """(kind, value, is_error, text) for a nearly incompressible material, or None."""
+    near_nu = float(ctx.threshold("elastic.near_incompressible_nu"))
+    ratio_limit = locking_ratio(ctx)
+    nus = [r["nu"] for r in mat.derived.get("elastic", ()) if r["nu"] is not None and math.isfinite(r["nu"])
+           and r["nu"] < 0.5]
+    if nus:
+        nu = max(nus)
+        kg = float(k_over_g(nu))
+        if nu >= near_nu or kg >= ratio_limit:
+            err = nu >= float(ctx.threshold("element.locking_error_nu"))
+            return {"kind": "isotropic", "nu": nu, "K_over_G": kg, "error": err,
+                    "text": f"nu = {num(nu)}, K/G = {num(kg)}"}
+    hr = _hyper_ratio(mat)
+    if hr is not None and hr >= ratio_limit:
+        err = hr >= float(ctx.threshold("element.locking_error_ratio"))
+        return {"kind": "hyperelastic", "K0_over_mu0": hr, "error": err,
+                "text": f"hyperelastic K0/mu0 = {num(hr)}"}
+    return None
+
+
+@rule("element/volumetric-locking", severity="warning",
+      title="Nearly incompressible or plastic material on elements that lock",
+      rationale="Fully integrated low-order displacement elements cannot deform at constant volume without "
+                "spurious stiffness: with nu near 0.5 (K/G large), a nearly incompressible hyperelastic "
+                "material, or isochoric plastic flow they lock and give far too stiff results and wrong "
+                "stresses. The catalogue grades each element type: severe (C3D8, C3D4, C3D6 and the 2D "
+                "elements expanded into them) gives a warning (an error beyond element.locking_error_nu or "
+                "element.locking_error_ratio), mild (fully integrated quadratic) a note, plastic material on "
+                "severe elements a note. Bulk solids are graded unknown: there the dialect and the element "
+                "integration options decide, so at most a warning.",
+      references=("CCX-UM Element Types: C3D8 'behave badly for isochoric material behavior, i.e. for high values "
+                  "of Poisson's coefficient or plastic behavior'; C3D20R 'performs well' (formats.md 3)",
+                  "physics.md 6.1-6.2 (locking of low-order displacement elements; cures)",
+                  "MYSTRAN user's manual PSOLID: ISOP=REDUCED is reduced shear integration (formats.md 5.5)"),
+      data="cause: isotropic | hyperelastic | plastic; nu, K_over_G or K0_over_mu0; types: {type: {count, grade}}; "
+           "alternatives: {type: [non-locking types of the same family]}")
+def volumetric_locking(model, ctx):
+    cat = ctx.catalogue
+    for mat in model.all_materials():
+        types = element_types_of(model, mat.key)
+        if not types:
+            continue
+        cause = _stiffness_cause(mat, ctx)
+        plastic = mat.has("plastic") or mat.has("deformation_plasticity")
+        if cause is None and not plastic:
+            continue
+        affected, severity = {}, None
+        for etype, count in sorted(types.items()):
+            tech = cat.get(etype, model.dialect)
+            if tech is None or count <= 0:
+                continue
+            if cause is not None:
+                sev = {"severe": "error" if cause["error"] else "warning", "mild": "note",
+                       "unknown": "warning"}.get(tech.locking)
+            else:
+                sev = "note" if tech.locking == "severe" else None
+            if sev is None:
+                continue
+            affected[etype] = (count, tech, sev)
+            if severity is None or SEV_RANK[sev] > SEV_RANK[severity]:
+                severity = sev
+        if not affected:
+            continue
+        parts, alts, unknown = [], {}, False
+        grade_rank = {"severe": 0, "unknown": 1, "mild": 2}
+        affected = dict(sorted(affected.items(), key=lambda kv: (grade_rank.get(kv[1][1].locking, 3), -kv[1][0])))
+        for etype, (count, tech, _sev) in affected.items():
+            parts.append(f"{plural(count, etype + ' element')} ({tech.locking} locking)")
+            alts[etype] = cat.alternatives(tech, model.dialect)
+            unknown = unknown or tech.locking == "unknown"
+        if cause is not None:
+            why = f"nearly incompressible ({cause['text']})" + (" and plastic" if plastic else "")
+            effect = "these elements lock volumetrically and give too stiff displacements and wrong stresses"
+        else:
+            why = "plastic (isochoric plastic flow)"
+            effect = "isochoric plastic flow locks these fully integrated low-order elements too"
+        msg = f"material {mat.name} is {why} and is used on {listing(parts)}: {effect}"
+        suggestions = _ordered(alts)
+        if suggestions:
+            msg += f"; use {', '.join(suggestions)} instead"
+        if unknown:
+            msg += ("; for these bulk solids the dialect and the element's integration options (PSOLID IN/ISOP) "
+                    "decide whether they lock: ISOP=REDUCED is reduced shear integration, not a volumetric cure")
+        data = {"cause": cause["kind"] if cause else "plastic", "plastic": plastic,
+                "types": {t: {"count": c, "grade": tech.locking} for t, (c, tech, _s) in affected.items()},
+                "alternatives": alts}
+        if cause:
+            data.update({k: v for k, v in cause.items() if k not in ("kind", "text", "error")})
+        yield ctx.finding(msg, mat.loc, material=mat.name, data=data, severity=severity)
+
+
+def _ordered(alts: dict) -> list[str]:
+    out: list[str] = []
+    for v in alts.values():
+        for a in v:
+            if a not in out:
+                out.append(a)
+    return out
