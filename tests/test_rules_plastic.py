@@ -1,0 +1,128 @@
+"""plastic/* rules on neutral models built directly (keyword and bulk vocabularies)."""
+import numpy as np
+import pytest
+
+from linter.physics import plastic as P
+from builders import Deck
+
+PLASTIC_RULES = ("plastic/first-strain-not-zero", "plastic/strain-not-increasing", "plastic/softening",
+                 "plastic/total-strain-given", "plastic/zero-yield", "plastic/yield-vs-modulus")
+STEEL = dict(elastic=[(210000.0, 0.3)], density=[(7.85e-9,)])
+
+# 6061-T6 engineering curve (Dowling, Mechanical Behavior of Materials, Table P4.6, as reproduced on a public
+# Q&A page; not checked against the book), E = 72464 MPa, converted with physics.md 4 formulas.
+AL_S = np.array([268, 290, 298, 302, 305.0])
+AL_E = np.array([0.384, 0.438, 0.493, 0.651, 0.992]) / 100
+AL_MOD = 50 / 0.00069
+
+
+def _deck(plastic, fmt="keyword", options=None, **props):
+    d = Deck(fmt=fmt, dialect="calculix" if fmt == "keyword" else "mystran")
+    mat = d.material("M1", **(props or STEEL))
+    d.block(mat, "plastic", "iso", plastic, options=options if options is not None else {"HARDENING": "ISOTROPIC"})
+    d.elements("C3D8", 4, elset="PART")
+    d.section("solid", "PART", "M1")
+    d.step("static")
+    return d
+
+
+def _rules(found):
+    return sorted(f.rule for f in found)
+
+
+def test_published_curve_converted_is_clean():
+    st, ep = P.eng_to_plastic_table(AL_S, AL_E, AL_MOD)
+    ep = ep - ep[0]  # common practice: the first point is the yield stress at eps_p = 0
+    d = _deck(list(zip(st, ep)), elastic=[(AL_MOD, 0.33)], density=[(2.7e-9,)])
+    assert d.run(*PLASTIC_RULES) == []
+
+
+def test_published_curve_as_engineering_total_strain_is_flagged():
+    # the same points used raw: total strain in the plastic column, first point not at zero
+    d = _deck(list(zip(AL_S, AL_E)), elastic=[(AL_MOD, 0.33)], density=[(2.7e-9,)])
+    found = d.run(*PLASTIC_RULES)
+    assert "plastic/first-strain-not-zero" in _rules(found)
+    total = [f for f in found if f.rule == "plastic/total-strain-given"]
+    assert len(total) == 1 and total[0].data["reason"] == "elastic-strain"
+    assert total[0].line == d.model.materials["M1"].find("plastic")[0].rows[0].loc.line
+
+
+def test_first_strain_per_temperature_group():
+    rows = [(300, 0, 20), (350, 0.05, 20), (250, 0.01, 200), (280, 0.05, 200)]
+    found = _deck(rows).run("plastic/first-strain-not-zero")
+    assert len(found) == 1 and found[0].data["temperature"] == 200.0
+    assert found[0].severity == "error" and "0.01" in found[0].message
+    assert _deck([(300, 0, 20), (350, 0.05, 20), (250, 0, 200)]).run("plastic/first-strain-not-zero") == []
+
+
+def test_strain_not_increasing():
+    found = _deck([(300, 0), (320, 0.02), (330, 0.02), (340, 0.01)]).run("plastic/strain-not-increasing")
+    assert len(found) == 1 and len(found[0].data["points"]) == 2
+    assert found[0].severity == "error"
+    assert _deck([(300, 0), (320, 0.02), (330, 0.03)]).run("plastic/strain-not-increasing") == []
+
+
+def test_softening_mentions_engineering_curves():
+    found = _deck([(300, 0), (400, 0.05), (380, 0.1)]).run("plastic/softening")
+    assert len(found) == 1 and found[0].severity == "warning"
+    assert "engineering stress-strain curve" in found[0].message
+    assert found[0].data["points"][0]["slope"] == pytest.approx(-400.0)
+    assert _deck([(300, 0), (400, 0.05), (400, 0.1)]).run("plastic/softening") == []  # perfectly plastic end
+
+
+def test_percent_strains():
+    found = _deck([(300, 0), (350, 5.0), (400, 20.0)]).run("plastic/total-strain-given")
+    assert len(found) == 1 and found[0].data["reason"] == "percent"
+    assert _deck([(300, 0), (350, 0.05), (400, 0.2)]).run("plastic/total-strain-given") == []
+
+
+def test_second_strain_equal_to_elastic_strain():
+    # 350/210000 = 1.667e-3: a strain of 1.7e-3 is within 10 % (plastic.total_strain_rel_tol)
+    found = _deck([(300, 0), (350, 1.7e-3), (400, 0.02)]).run("plastic/total-strain-given")
+    assert len(found) == 1 and found[0].data["elastic_strain"] == pytest.approx(350 / 210000)
+    assert _deck([(300, 0), (350, 3e-3), (400, 0.02)]).run("plastic/total-strain-given") == []
+    tight = _deck([(300, 0), (350, 1.7e-3), (400, 0.02)])
+    assert tight.run("plastic/total-strain-given", thresholds={"plastic": {"total_strain_rel_tol": 0.01}}) == []
+
+
+def test_zero_yield_error_and_creep_warning():
+    found = _deck([(0, 0), (100, 0.1)]).run("plastic/zero-yield")
+    assert len(found) == 1 and found[0].severity == "error"
+    d = _deck([(0.0, 0.0), (0.0, 10.0)])
+    mat = d.model.materials["M1"]
+    d.block(mat, "creep", "iso", [(1e-10, 5.0, 0.0)])
+    found = d.run("plastic/zero-yield")
+    assert len(found) == 1 and found[0].severity == "warning" and "creep" in found[0].message
+    assert _deck([(1, 0), (100, 0.1)]).run("plastic/zero-yield") == []
+
+
+def test_yield_vs_modulus_units_and_class():
+    # yield stress in Pa with E in MPa: 2.5e8/210000 = 1190
+    found = _deck([(2.5e8, 0), (3e8, 0.1)]).run("plastic/yield-vs-modulus")
+    assert len(found) == 1 and found[0].data["material_class"] == "metal"
+    assert found[0].data["yield_strain"] == pytest.approx(2.5e8 / 210000)
+    # S355 steel (EN 1993-1-1, physics.md 4: 1.69e-3) is inside the metal band
+    assert _deck([(355, 0), (400, 0.1)]).run("plastic/yield-vs-modulus") == []
+    # 0.03 is too much for a metal, fine for a polymer (PA66-like E = 3000, rho = 1.14e-9; physics.md 5.5)
+    assert len(_deck([(6300, 0), (7000, 0.1)]).run("plastic/yield-vs-modulus")) == 1
+    poly = _deck([(90, 0), (100, 0.1)], elastic=[(3000.0, 0.4)], density=[(1.14e-9,)])
+    assert poly.run("plastic/yield-vs-modulus") == []
+    # a zero yield stress is reported once (by zero-yield), not again here
+    assert _deck([(0, 0), (300, 0.1)]).run("plastic/yield-vs-modulus") == []
+
+
+def test_bulk_total_strain_table_is_checked_as_a_curve_from_the_origin():
+    opts = {"card": "MATS1", "TYPE": "PLASTIC", "x_total_strain": True}
+    ok = [(0, 0), (210, 0.001), (300, 0.05)]
+    d = _deck(ok, fmt="bulk", options=opts)
+    assert d.run(*PLASTIC_RULES) == []
+    found = _deck([(210, 0.001), (300, 0.05)], fmt="bulk", options=opts).run(*PLASTIC_RULES)
+    assert _rules(found) == ["plastic/first-strain-not-zero"]
+    assert found[0].data["total_strain"] is True
+    zero = _deck([(0, 0), (0, 0.001), (300, 0.05)], fmt="bulk", options=opts).run("plastic/zero-yield")
+    assert len(zero) == 1 and zero[0].data["yield_stress"] == 0.0
+
+
+def test_johnson_cook_constants_are_not_a_table():
+    d = _deck([(300, 500, 0.3, 1.0, 1800, 20)], options={"HARDENING": "JOHNSON COOK"})
+    assert d.run(*PLASTIC_RULES) == []
