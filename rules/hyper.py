@@ -132,8 +132,10 @@ def too_compressible(model, ctx):
     mu_mpa = float(ctx.threshold("hyper.elastomer_mu0_mpa"))
     us = model.derived.get("unit_system") or {}
     scale = us.get("stress_scale_to_pa")
-    if scale:
-        limit, unit_note = mu_mpa * 1e6 / float(scale), f"in the inferred unit system {us.get('name', '')}".strip()
+    trusted = us.get("declared") or (us.get("confidence") or 0.0) >= float(ctx.threshold("hyper.unit_min_confidence"))
+    if scale and trusted:
+        how = "declared" if us.get("declared") else "inferred"
+        limit, unit_note = mu_mpa * 1e6 / float(scale), f"in the {how} unit system {us.get('name') or ''}".strip()
     else:
         limit, unit_note = mu_mpa, "unit system unknown: the MPa threshold is compared with the deck's own unit"
     for mat, entry, loc in _entries(model):

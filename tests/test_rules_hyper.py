@@ -6,7 +6,7 @@ import math
 import pytest
 
 from linter.config import Config
-from linter.derived import derive_all
+from linter.derived.hyper import derive_hyper
 from linter.model import DeckModel, Loc, Material, PropertyBlock, Row
 from linter.runner import run_rules
 
@@ -29,8 +29,9 @@ def model_with(*blocks, dialect="calculix", unit_system=None):
 
 
 def run(model):
+    # only this family's derivation runs, so the unit system stays the one a test sets
     cfg = Config(select=["hyper"])
-    assert derive_all(model, cfg) == []
+    derive_hyper(model, cfg)
     return run_rules(model, cfg)
 
 
@@ -88,6 +89,8 @@ def test_compressibility_defaulted_calculix_only():
     ({"name": "mm-tonne-s", "confidence": 0.9, "stress_scale_to_pa": 1e6}, True),    # 1 MPa: rubber
     ({"name": "m-kg-s", "confidence": 0.9, "stress_scale_to_pa": 1.0}, True),        # 1 Pa: soft gel
     ({"name": "gpa", "confidence": 0.9, "stress_scale_to_pa": 1e9}, False),          # 1 GPa: not rubber
+    ({"name": "gpa", "confidence": 0.3, "stress_scale_to_pa": 1e9}, True),           # weak guess: not used
+    ({"name": "gpa", "confidence": 0.0, "declared": True, "stress_scale_to_pa": 1e9}, False),
 ])
 def test_too_compressible(us, reported):
     # neo-Hooke C10 = 0.5 (mu0 = 1), D1 = 0.2 -> K0 = 10, K0/mu0 = 10 < 20 (physics.md 3.2 suggestion)
@@ -95,7 +98,7 @@ def test_too_compressible(us, reported):
     assert rules_of(found) == (["hyper/too-compressible"] if reported else [])
     if reported:
         assert found[0].severity == "note" and "K0/mu0 = 10" in found[0].message
-        assert ("unit system unknown" in found[0].message) == (us is None)
+        assert ("unit system unknown" in found[0].message) == (us is None or us["confidence"] < 0.5)
 
 
 def test_unstable_outside_working_range_is_warning():
@@ -179,3 +182,59 @@ def test_any_constants_give_findings_not_exceptions(form, vals):
     kind = "hyperfoam" if form.startswith("hyperfoam") else "hyperelastic"
     found = run(model_with(hblock(form, [vals], kind=kind)))
     assert all(f.rule.startswith("hyper/") for f in found)
+
+
+# ---------------------------------------------------------------------------------------- end to end
+
+MESH = """*NODE
+1,0,0,0
+2,1,0,0
+3,1,1,0
+4,0,1,0
+5,0,0,1
+6,1,0,1
+7,1,1,1
+8,0,1,1
+*ELEMENT,TYPE=C3D8,ELSET=EALL
+1,1,2,3,4,5,6,7,8
+"""
+
+
+def test_end_to_end_keyword_deck(write_deck):
+    pytest.importorskip("linter.parsers.keyword")
+    from linter.check import check_paths
+
+    # invented seal: MR with C01 < 0 (physics.md 3.5 unstable set) and an Ogden N=1 with D1 = 0
+    deck = write_deck("seal.inp", MESH + """*MATERIAL,NAME=SEAL
+*HYPERELASTIC,MOONEY-RIVLIN
+0.5,-0.05,0.001
+*MATERIAL,NAME=PAD
+*HYPERELASTIC,OGDEN,N=1
+3.488,2.163,0.
+*SOLID SECTION,ELSET=EALL,MATERIAL=SEAL
+*STEP
+*STATIC
+*END STEP
+""")
+    res = check_paths([str(deck)], Config(select=["hyper"]))
+    got = sorted((f.rule, f.line, f.material) for f in res.findings if not f.rule.startswith("internal/"))
+    assert got == [("hyper/compressibility-defaulted", 16, "PAD"), ("hyper/unstable", 13, "SEAL")]   # card lines
+    assert not [f for f in res.findings if f.rule.startswith("internal/") and "hyperelastic" in f.message]
+    mats = {m["name"]: m for m in res.files[0].materials}
+    assert mats["SEAL"]["derived"]["hyper"]["mu0"] == pytest.approx(0.9)
+
+
+def test_corpus_hyper_decks(corpus_dir):
+    pytest.importorskip("linter.parsers.keyword")
+    from linter.check import check_paths
+
+    files = [corpus_dir / "keyword" / n for n in ("beamog.inp", "beamhf.inp")]
+    files = [str(p) for p in files if p.is_file()]
+    if not files:
+        pytest.skip("hyperelastic corpus decks not present")
+    res = check_paths(files, Config(select=["hyper"]))
+    assert not [f for f in res.findings if f.rule.startswith("internal/") and "hyper" in f.message]
+    rules = {(f.path.rsplit("/", 1)[-1], f.rule) for f in res.findings}
+    # beamog.inp: OGDEN N=1 mu1 = 3.488, D1 = 0 (physics.md 3.2) -> ccx default compressibility
+    if any(p.endswith("beamog.inp") for p in files):
+        assert ("beamog.inp", "hyper/compressibility-defaulted") in rules
