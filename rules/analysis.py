@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from typing import Optional
 
-from linter.model import DeckModel, Material
+from linter.model import DeckModel, Material, norm_key
 from linter.registry import rule
 from linter.usage import material_usage, resolve_set
 
@@ -51,6 +51,8 @@ def _blocks_of(model: DeckModel, key: Optional[str]) -> Optional[set]:
     if key is None:
         return None
     sel = resolve_set(model, key)
+    if sel is None and norm_key(key) != key:
+        sel = resolve_set(model, norm_key(key))
     return set(sel.parts) if sel else set()
 
 
@@ -63,7 +65,7 @@ def materials_on(model: DeckModel, target: Optional[str]) -> set:
     out = set()
     for key, uses in usage.items():
         for u in uses:
-            if u.section.elset == target or (blocks and blocks & (_blocks_of(model, u.section.elset) or set())):
+            if norm_key(u.section.elset) == norm_key(target) or (blocks and blocks & (_blocks_of(model, u.section.elset) or set())):
                 out.add(key)
     return out
 
