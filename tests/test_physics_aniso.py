@@ -169,7 +169,7 @@ def test_eigen_summary_zero_and_nan():
 def test_conductivity_matrix():
     k = A.conductivity_matrix("aniso", [10.0, 20.0, 30.0, 1.0, 2.0, 3.0])[0]
     np.testing.assert_array_equal(k, [[10, 1, 2], [1, 20, 3], [2, 3, 30]])
-    assert A.eigen_summary(A.conductivity_matrix("ortho", [1.0, -1.0, 2.0]))["positive_definite"][0] == False  # noqa: E712
+    assert not A.eigen_summary(A.conductivity_matrix("ortho", [1.0, -1.0, 2.0]))["positive_definite"][0]
     assert not A.eigen_summary(A.conductivity_matrix("aniso", [1.0, 1.0, 1.0, 2.0, 0.0, 0.0]))["positive_definite"][0]
 
 

@@ -4,6 +4,8 @@ from __future__ import annotations
 import math
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from linter.config import Config
 from linter.derived.aniso import derive_aniso
@@ -178,9 +180,6 @@ def test_conductivity_not_positive_definite():
     assert [f.rule for f in found] == ["aniso/conductivity-not-positive-definite"]
     assert "T = 100 (line 12)" in found[0].message and found[0].data["rows"][0]["eig_min"] == pytest.approx(-2)
 
-
-from hypothesis import given, settings  # noqa: E402
-from hypothesis import strategies as st  # noqa: E402
 
 SIZES = {"ortho": 9, "engineering": 9, "aniso": 21, "mat9": 21, "mat2": 6, "lamina": 6}
 

@@ -4,6 +4,8 @@ from __future__ import annotations
 import math
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from linter.config import Config
 from linter.derived.hyper import derive_hyper
@@ -166,9 +168,6 @@ def test_non_finite_and_short_rows_do_not_fail():
     assert "skipped" in rows[0] and rows[1]["mu0"] == pytest.approx(0.8)
     assert rules_of(found) == ["hyper/compressibility-defaulted"]   # the short row's D1 is read as 0
 
-
-from hypothesis import given, settings  # noqa: E402
-from hypothesis import strategies as st  # noqa: E402
 
 FORMS = ["neo-hooke", "mooney-rivlin", "polynomial-2", "polynomial-3", "reduced-polynomial-3", "yeoh", "ogden-1",
          "ogden-3", "arruda-boyce", "hyperfoam-2"]
