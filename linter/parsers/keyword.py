@@ -208,11 +208,12 @@ class _Parser:
                 return
             read_material_card(rd, kw, start, end, first_line, self.material, model)
             return
+        if key == "INCLUDE":                  # inlined by the solver: an open material block goes on
+            self.include(rd, kw)
+            return
         self.material = None
         if key == "MATERIAL":
             self.open_material(rd, kw)
-        elif key == "INCLUDE":
-            self.include(rd, kw)
         elif key == "NODE":
             mesh.read_node(rd, kw, start, end, model, nlines)
         elif key == "ELEMENT":

@@ -39,11 +39,6 @@ def to_float(s: str) -> Optional[float]:
     m = _FORTRAN_EXP.match(t)
     if m:
         return float(m.group(1) + "e" + m.group(2))
-    if t[-1:] in "eE" and len(t) > 1:          # f20.0 on a cut-off exponent reads the mantissa
-        try:
-            return float(t[:-1])
-        except ValueError:
-            return None
     return None
 
 
@@ -141,7 +136,12 @@ class Reader:
             return None
         if len(f) > REAL_WIDTH:
             cut = to_float(f[:REAL_WIDTH])
-            if cut is not None and cut != v:
+            if cut is None:                      # ccx 2.20 run: "*ERROR reading *ELASTIC" on such a field
+                self.issue("number-truncated", f"{what} '{f}' has {len(f)} characters; CalculiX reads only the "
+                           f"first {REAL_WIDTH} ('{f[:REAL_WIDTH]}'), which is not a number, and stops",
+                           line.loc.line, material=material, field=what, written=f, read_as=None)
+                return None
+            if cut != v:
                 self.issue("number-truncated", f"{what} '{f}' has {len(f)} characters; CalculiX reads only the "
                            f"first {REAL_WIDTH} and gets {cut:g} instead of {v:g}", line.loc.line,
                            material=material, field=what, written=f, read_as=cut)

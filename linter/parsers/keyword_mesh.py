@@ -44,24 +44,31 @@ def numbers(chunk: bytes) -> np.ndarray:
     if b"d" in chunk or b"D" in chunk:
         chunk = chunk.replace(b"D", b"E").replace(b"d", b"e")
     flat = chunk.replace(b"\n", b",").rstrip(b",")
-    try:
-        arr = np.array(flat.split(b","), dtype=float) if len(flat) < 4096 else None
-    except ValueError:
-        arr = None
-    if arr is None:
+    arr = None
+    if len(flat) < 4096:
+        try:
+            arr = np.array(flat.split(b","), dtype=float)
+        except ValueError:
+            arr = None
+    else:
         import warnings
 
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
-            arr = np.fromstring(flat, dtype=float, sep=",")  # noqa: NPY201 - text mode is fine
-        if arr.size != flat.count(b",") + 1:         # a field that is not a number: slow exact path
-            out = []
-            for f in flat.split(b","):
-                try:
-                    out.append(float(f))
-                except ValueError:
-                    out.append(np.nan)
-            arr = np.array(out, dtype=float)
+            try:
+                arr = np.fromstring(flat, dtype=float, sep=",")
+            except ValueError:
+                arr = None
+        if arr is not None and arr.size != flat.count(b",") + 1:
+            arr = None
+    if arr is None:                                  # a field that is not a number: slow exact path
+        out = []
+        for f in flat.split(b","):
+            try:
+                out.append(float(f))
+            except ValueError:
+                out.append(np.nan)
+        arr = np.array(out, dtype=float)
     return arr
 
 
@@ -90,7 +97,9 @@ def read_element(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: 
             nodes = int(getattr(entry, "nodes", 0) or 0)
     if not nodes:
         nodes = LONG_TYPES.get(etype, 0)
-    if nodes > 15:
+    first = next(rd.lines(start, min(end, start + 4096), first_line), None)
+    spans = nodes > 15 or (first is not None and nodes and len(first.fields) < nodes + 1)
+    if spans:                        # elements continue on the next line: count the numbers
         vals = numbers(rd.data[start:end])
         count = int(vals.size // (nodes + 1))
         if vals.size % (nodes + 1):
@@ -98,9 +107,8 @@ def read_element(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: 
                      f"elements of {nodes} nodes", kw.loc.line, type=etype)
     else:
         count = nlines
-        if not nodes and count:
-            first = next(rd.lines(start, min(end, start + 4096), first_line), None)
-            nodes = max(0, len(first.fields) - 1) if first else 0
+        if not nodes and first is not None:
+            nodes = max(0, len(first.fields) - 1)
     width = nodes + 1
     data = rd.data
     table = Lazy(lambda: _ints(data, start, end, width))
