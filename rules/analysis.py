@@ -17,6 +17,7 @@ CCX_MAT = "CalculiX User's Manual, Materials: data required by the analysis (for
 NAS_SOL = "Nastran solution sequences and the material data each needs (formats.md 5.9)"
 MECHANICAL = ("elastic", "hyperelastic", "hyperfoam", "deformation_plasticity", "user")
 THERMAL_ROLES = ("thermal",)
+NON_STRUCTURAL = ("heat", "fluid", "network")
 
 
 def used_materials(model: DeckModel) -> list[Material]:
@@ -29,8 +30,29 @@ def element_count(model: DeckModel, key: str) -> int:
     return sum(sum(u.counts.values()) for u in material_usage(model).get(key, ()))
 
 
-def structural_use(model: DeckModel, key: str) -> bool:
-    return any(u.role not in THERMAL_ROLES for u in material_usage(model).get(key, ()))
+def families(model: DeckModel, ctx, key: str) -> set:
+    """Catalogue families of the element types that use the material (None for a type not catalogued)."""
+    out = set()
+    for u in material_usage(model).get(key, ()):
+        for t, n in u.counts.items():
+            if n:
+                tech = ctx.catalogue.get(t, model.dialect)
+                out.add(tech.family if tech is not None else None)
+    return out
+
+
+def structural_use(model: DeckModel, ctx, key: str) -> bool:
+    """Used in a structural role on elements that carry stress (not only heat, fluid or network elements)."""
+    if not any(u.role not in THERMAL_ROLES for u in material_usage(model).get(key, ())):
+        return False
+    fams = families(model, ctx, key)
+    return not fams or any(f not in NON_STRUCTURAL for f in fams)
+
+
+def fluid_only(model: DeckModel, ctx, key: str) -> bool:
+    """Used only on fluid or network elements (which take *FLUID CONSTANTS, not *SPECIFIC HEAT)."""
+    fams = families(model, ctx, key)
+    return bool(fams) and all(f in ("fluid", "network") for f in fams)
 
 
 def has_positive(mat: Material, kind: str, column: str) -> bool:
@@ -138,10 +160,10 @@ def missing_density(model, ctx):
                                               "point_masses": 0})
 
 
-def _simple_need(model, ctx, need: str, kind: str, column: str, words: str):
+def _simple_need(model, ctx, need: str, kind: str, column: str, words: str, skip=None):
     for step, proc in _steps_needing(model, need):
         for mat in used_materials(model):
-            if has_positive(mat, kind, column):
+            if has_positive(mat, kind, column) or (skip and skip(model, ctx, mat.key)):
                 continue
             yield ctx.finding(f"material {mat.name} has no {words}, but {_step_words(step, proc)} needs it",
                               mat.loc, material=mat.name, data={"step": step.name, "line": proc.loc.line})
@@ -158,10 +180,12 @@ def missing_conductivity(model, ctx):
 
 @rule("analysis/missing-specific-heat", severity="error",
       title="A transient heat-transfer step needs a specific heat the material does not have",
-      rationale="Transient heat transfer stores heat in rho*c; without a specific heat there is no heat capacity.",
+      rationale="Transient heat transfer stores heat in rho*c; without a specific heat there is no heat capacity. "
+                "Materials used only on fluid or network elements take their heat capacity from *FLUID "
+                "CONSTANTS and are not checked.",
       references=(CCX_MAT, NAS_SOL), data="step, line")
 def missing_specific_heat(model, ctx):
-    yield from _simple_need(model, ctx, "transient_thermal", "specific_heat", "c", "specific heat")
+    yield from _simple_need(model, ctx, "transient_thermal", "specific_heat", "c", "specific heat", skip=fluid_only)
 
 
 def initial_values(model) -> list[float]:
@@ -187,7 +211,7 @@ def missing_expansion(model, ctx):
         base = (f"initial temperature {min(init):.4g}" + (f"..{max(init):.4g}" if max(init) != min(init) else "")
                 if init else "no initial temperature (the solver's default)")
         for mat in used_materials(model):
-            if mat.has("expansion") or not structural_use(model, mat.key):
+            if mat.has("expansion") or not structural_use(model, ctx, mat.key):
                 continue
             yield ctx.finding(
                 f"material {mat.name} has no thermal expansion, but step {step.name} applies temperature "
@@ -206,7 +230,7 @@ def missing_expansion(model, ctx):
 def missing_elastic(model, ctx):
     for step, proc in _steps_needing(model, "structural"):
         for mat in used_materials(model):
-            if any(mat.has(k) for k in MECHANICAL) or not structural_use(model, mat.key):
+            if any(mat.has(k) for k in MECHANICAL) or not structural_use(model, ctx, mat.key):
                 continue
             yield ctx.finding(f"material {mat.name} has no elastic behaviour, but {_step_words(step, proc)} "
                               "is a structural analysis", mat.loc, material=mat.name,

@@ -84,7 +84,7 @@ def temperature_outside_table(model, ctx):
                 continue
             k = int(np.argmax(np.where(out, np.maximum(rng[0] - values, values - rng[1]), -np.inf)))
             val, where, _loc = temps[k]
-            msg = (f"material {mat.name}: {where} {_fmt(val)} is outside the {WORDS[kind]} table "
+            msg = (f"material {mat.name}: {where} = {_fmt(val)} is outside the {WORDS[kind]} table "
                    f"({_fmt(rng[0])}..{_fmt(rng[1])}, line {blk.loc.line})")
             e_ext = extrapolated_E(blk, val)
             if e_ext is not None:

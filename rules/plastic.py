@@ -171,6 +171,8 @@ def total_strain_given(model, ctx):
         if strain_is_total(blk):
             continue
         for t, idx, s, e in curves(blk):
+            if not (s > 0).any():
+                continue  # no hardening curve at all (zero yield, e.g. creep only): plastic/zero-yield tells
             E = elastic_modulus(mat, t)
             head = slice(0, min(2, len(idx)))
             hit = None

@@ -186,7 +186,7 @@ def test_temperature_outside_conductivity_table_keyword():
     d.model.initial_temperatures.append(_load("temperature", -40.0))
     found = d.run("analysis/temperature-outside-table")
     assert len(found) == 1 and found[0].data["kind"] == "conductivity"
-    assert found[0].data["extrapolated_E"] is None and "initial temperature -40" in found[0].message
+    assert found[0].data["extrapolated_E"] is None and "initial temperature = -40" in found[0].message
 
 
 def test_expansion_reference():
@@ -277,3 +277,90 @@ def test_explicit_time_step_hyperelastic_and_other_steps():
     implicit = _deck()
     _step(implicit, "dynamic-implicit")
     assert implicit.run("analysis/explicit-time-step") == []
+
+
+def test_fluid_and_heat_elements_need_no_stiffness():
+    # formats.md 2.3: *SPECIFIC HEAT is for solids; fluids take *FLUID CONSTANTS (CalculiX manual)
+    fluid = _deck(etype="F3D8", density=[(1.0,)], conductivity=[(1.0,)])
+    _step(fluid, "coupled-transient", card="*COUPLED TEMPERATURE-DISPLACEMENT")
+    assert fluid.run("analysis/missing-elastic", "analysis/missing-specific-heat",
+                     config=Config(rules={"model/no-mechanical-behaviour": "off"})) == []
+    heat = _deck(etype="DC3D8", density=[(7.85e-9,)], conductivity=[(50.0,)])
+    _step(heat, "coupled-transient")
+    found = heat.run("analysis/missing-elastic", "analysis/missing-specific-heat")
+    assert [f.rule for f in found] == ["analysis/missing-specific-heat"]
+
+
+# ---------------------------------------------------------------- end to end (keyword parser)
+
+E2E = """*NODE
+1, 0, 0, 0
+2, 10, 0, 0
+3, 10, 10, 0
+4, 0, 10, 0
+5, 0, 0, 8
+6, 10, 0, 8
+7, 10, 10, 8
+8, 0, 10, 8
+*ELEMENT, TYPE=C3D8, ELSET=PART
+1, 1, 2, 3, 4, 5, 6, 7, 8
+*NSET, NSET=NALL
+1, 2, 3, 4, 5, 6, 7, 8
+*MATERIAL, NAME=STEEL
+*ELASTIC
+210000., 0.3, 20.
+150000., 0.3, 400.
+{extra}*SOLID SECTION, ELSET=PART, MATERIAL=STEEL
+*INITIAL CONDITIONS, TYPE=TEMPERATURE
+NALL, 20.
+*STEP
+*FREQUENCY
+5
+*END STEP
+*STEP
+*DYNAMIC, EXPLICIT
+1e-7, 1e-5
+*TEMPERATURE
+NALL, 900.
+*END STEP
+"""
+
+
+def _check(write_deck, text):
+    from linter.check import check_paths
+
+    path = write_deck("e2e.inp", text)
+    return [f for f in check_paths([str(path)]).findings if f.rule.startswith("analysis/")]
+
+
+def test_end_to_end_keyword_deck(write_deck):
+    found = _check(write_deck, E2E.format(extra=""))
+    by_rule = {f.rule: f for f in found}
+    assert by_rule["analysis/missing-density"].line == 14          # the *MATERIAL line
+    assert "*FREQUENCY" in by_rule["analysis/missing-density"].message
+    assert by_rule["analysis/missing-expansion"].severity == "warning"
+    tab = by_rule["analysis/temperature-outside-table"]
+    assert tab.line == 15 and tab.data["temperature"] == 900.0
+    # E from 210000 at 20 to 150000 at 400, extrapolated to 900: 150000 - 60000*500/380 (hand computed)
+    assert tab.data["extrapolated_E"] == pytest.approx(150000 - 60000 * 500 / 380)
+    assert "analysis/explicit-time-step" not in by_rule               # no density: no wave speed
+    fixed = _check(write_deck, E2E.format(extra="*DENSITY\n7.85e-9\n*EXPANSION, ZERO=20.\n1.2e-5\n"))
+    rules = sorted(f.rule for f in fixed)
+    assert rules == ["analysis/explicit-time-step", "analysis/temperature-outside-table"]
+    dt = [f for f in fixed if f.rule == "analysis/explicit-time-step"][0]
+    # smallest edge 8 (hand built brick 10 x 10 x 8); c_d of steel 6.001e6 mm/s (physics.md 6.3)
+    assert dt.data["length"] == pytest.approx(8.0) and dt.data["dt"] == pytest.approx(8.0 / 6.001e6, rel=1e-3)
+
+
+def test_corpus_sweep_has_no_rule_failures(corpus_dir):
+    from linter.check import check_paths
+
+    decks = sorted((corpus_dir / "keyword").glob("*.inp"))
+    if not decks:
+        pytest.skip("no keyword decks in the corpus")
+    found = check_paths([str(p) for p in decks]).findings
+    failed = [f for f in found if f.rule == "internal/rule-failed" and
+              f.data.get("failed_rule", "").startswith(("analysis/", "plastic/"))]
+    assert failed == []
+    # the corpus decks are solver test decks that run: none lacks the elastic data a structural step needs
+    assert [f for f in found if f.rule == "analysis/missing-elastic"] == []

@@ -93,6 +93,8 @@ def test_zero_yield_error_and_creep_warning():
     d.block(mat, "creep", "iso", [(1e-10, 5.0, 0.0)])
     found = d.run("plastic/zero-yield")
     assert len(found) == 1 and found[0].severity == "warning" and "creep" in found[0].message
+    # the creep-only layout (zero stress up to a large strain) is not also read as percent strain
+    assert d.run("plastic/total-strain-given") == []
     assert _deck([(1, 0), (100, 0.1)]).run("plastic/zero-yield") == []
 
 
@@ -126,3 +128,50 @@ def test_bulk_total_strain_table_is_checked_as_a_curve_from_the_origin():
 def test_johnson_cook_constants_are_not_a_table():
     d = _deck([(300, 500, 0.3, 1.0, 1800, 20)], options={"HARDENING": "JOHNSON COOK"})
     assert d.run(*PLASTIC_RULES) == []
+
+
+def test_end_to_end_keyword_plastic(write_deck):
+    from linter.check import check_paths
+
+    deck = write_deck("pl.inp", """*NODE
+1, 0, 0, 0
+2, 1, 0, 0
+3, 1, 1, 0
+4, 0, 1, 0
+5, 0, 0, 1
+6, 1, 0, 1
+7, 1, 1, 1
+8, 0, 1, 1
+*ELEMENT, TYPE=C3D8, ELSET=PART
+1, 1, 2, 3, 4, 5, 6, 7, 8
+*MATERIAL, NAME=STEEL
+*ELASTIC
+210000., 0.3
+*PLASTIC
+250., 0.001, 20.
+300., 0.05, 20.
+280., 0.1, 20.
+240., 0., 400.
+260., 0.05, 400.
+*SOLID SECTION, ELSET=PART, MATERIAL=STEEL
+*STEP
+*STATIC
+*END STEP
+""")
+    found = [f for f in check_paths([str(deck)]).findings if f.rule.startswith("plastic/")]
+    assert sorted((f.rule, f.line) for f in found) == [("plastic/first-strain-not-zero", 15),
+                                                       ("plastic/softening", 17)]
+    assert found[0].data["temperature"] == 20.0
+
+
+def test_corpus_decks_have_no_plastic_errors(corpus_dir):
+    # the corpus decks are solver test decks that run; the creep deck with *PLASTIC 0,0 / 0,10 gives a warning
+    # (physics.md 4 corpus note)
+    from linter.check import check_paths
+
+    decks = sorted((corpus_dir / "keyword").glob("*.inp"))
+    if not decks:
+        pytest.skip("no keyword decks in the corpus")
+    found = [f for f in check_paths([str(p) for p in decks]).findings if f.rule.startswith("plastic/")]
+    assert [f for f in found if f.severity == "error"] == []
+    assert any(f.rule == "plastic/zero-yield" and f.data["with_creep"] for f in found)
