@@ -159,8 +159,8 @@ def test_end_to_end_keyword_plastic(write_deck):
 *END STEP
 """)
     found = [f for f in check_paths([str(deck)]).findings if f.rule.startswith("plastic/")]
-    assert sorted((f.rule, f.line) for f in found) == [("plastic/first-strain-not-zero", 15),
-                                                       ("plastic/softening", 17)]
+    assert sorted((f.rule, f.line) for f in found) == [("plastic/first-strain-not-zero", 16),
+                                                       ("plastic/softening", 18)]
     assert found[0].data["temperature"] == 20.0
 
 
