@@ -1,0 +1,208 @@
+"""Diagnosis against the reference unit system (declared, else inferred): which quantity of which
+material, or which gravity value, does not fit it, and in which system it would make sense.
+
+A material that the reference system does not explain (misfit above ``material_tol``) is, in order:
+1. explained as a whole by another system -> mismatch ("material pasted in Pa");
+2. explained after reading one or more quantity groups (moduli, yield, density, conductivity,
+   specific heat, expansion) in another system, the rest staying in the reference -> mismatch naming
+   those quantities, with the value to write;
+3. otherwise -> implausible, naming the quantities outside the bands of its best class.
+A material that fits is still checked quantity by quantity (misfit above ``quantity_tol`` ->
+implausible). Severity follows use: a quantity no analysis reads, or a material no element uses,
+gives a note.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Optional
+
+import numpy as np
+
+from .model import Loc
+from .physics import units as U
+from .unitevidence import GROUPS, QUANTITY_DIMENSION, WORDS
+from .unitinfer import DERIVED, Inference, MaterialScore, _subsets, class_misfit, equivalent, si_values
+
+SI_UNIT = {"E": "Pa", "K": "Pa", "yield": "Pa", "rho": "kg/m^3", "k": "W/(m K)", "c": "J/(kg K)",
+           "alpha": "1/K", "c0": "m/s", "cd": "m/s", "a": "m^2/s", "rhoc": "J/(m^3 K)"}
+DERIVED_WORDS = {"c0": "bar wave speed sqrt(E/rho)", "cd": "dilatational wave speed sqrt(M/rho)",
+                 "a": "thermal diffusivity k/(rho c)", "rhoc": "volumetric heat capacity rho c"}
+
+
+@dataclass
+class Problem:
+    kind: str                  # mismatch | implausible | gravity
+    severity: str
+    message: str
+    loc: Optional[Loc]
+    material: Optional[str] = None
+    data: dict = field(default_factory=dict)
+
+
+def _label(data, s: int, q: str) -> str:
+    dim = QUANTITY_DIMENSION.get(q)
+    sys = data.systems[s]
+    return sys.label(dim) if dim else "(dimensionless)"
+
+
+def _write(ev, q: str, src: int, dst: int, data) -> float:
+    dim = QUANTITY_DIMENSION[q]
+    return float(ev.values[q] * data.systems[src].scale(dim) / data.systems[dst].scale(dim))
+
+
+def _sev(ev, qs) -> str:
+    return "error" if ev.assigned and any(ev.used.get(q, True) for q in qs) else "note"
+
+
+def diagnose_material(inf: Inference, ms: MaterialScore) -> list[Problem]:
+    data, ref, ev = inf.data, inf.ref, ms.ev
+    if ref is None or not ms.dims:
+        return []
+    tol = float(data.scoring["material_tol"])
+    if ms.misfit[ref] <= tol:
+        return _implausible(inf, ms, int(ms.best_class[ref]), ref)
+    refname = data.systems[ref].name
+    alts = [s for s in range(len(data.systems))
+            if ms.misfit[s] <= tol and not equivalent(data, s, ref, ms.dims)]
+    if alts:
+        alt = min(alts, key=lambda s: (ms.misfit[s], data.systems[s].prior))
+        cls = data.class_names[int(ms.best_class[alt])]
+        dimq = [q for q in ev.values if QUANTITY_DIMENSION[q]]
+        fits = ", ".join(f"{WORDS[q]} {ev.values[q]:.4g} as {_label(data, alt, q)}" for q in dimq)
+        writes = ", ".join(f"{WORDS[q]} {_write(ev, q, alt, ref, data):.4g}" for q in dimq)
+        msg = (f"material {ev.name}: its values fit {data.systems[alt].name} ({fits}: a {cls}) "
+               f"but the model is in {refname}: in {refname} write {writes}")
+        q0 = dimq[0]
+        return [Problem("mismatch", _sev(ev, dimq), msg, ev.locs.get(q0, ev.loc), ev.name,
+                        {"quantities": dimq, "fits": data.systems[alt].name, "model": refname, "class": cls,
+                         "write": {q: _write(ev, q, alt, ref, data) for q in dimq}})]
+    found = _split(inf, ms)
+    if found is not None:
+        return [found]
+    return _implausible(inf, ms, int(ms.best_class[ref]), ref, force=True)
+
+
+def _split(inf: Inference, ms: MaterialScore) -> Optional[Problem]:
+    data, ref, ev = inf.data, inf.ref, ms.ev
+    tol = float(data.scoring["material_tol"])
+    qtol = float(data.scoring["quantity_tol"])
+    groups = [g for g in GROUPS if any(q in ev.values and QUANTITY_DIMENSION[q] for q in GROUPS[g])]
+    si = si_values(ev, data)
+    # only a quantity that fits no class at all when read in the reference system can be the slipped one
+    # (among the classes that have a band for every quantity the material gives: no fluid with an E)
+    fit = np.all([~np.isnan(data.lo[q]) for q in ev.values], axis=0)
+    bad = {q: bool(np.all(U.decades_outside(si[q][ref], data.lo[q][fit], data.hi[q][fit]) > qtol))
+           for q in si if q != "nu"}
+    best = None
+    for subset in _subsets(groups):
+        if len(subset) == len(groups):
+            continue
+        qs = [q for g in subset for q in GROUPS[g] if q in ev.values and QUANTITY_DIMENSION[q]]
+        alts = set.intersection(*(set(data.slip_sources[g]) for g in subset))
+        for alt in sorted(alts):
+            if all(np.isclose(data.systems[alt].scale(QUANTITY_DIMENSION[q]),
+                              data.systems[ref].scale(QUANTITY_DIMENSION[q])) for q in qs):
+                continue
+            pc = class_misfit(ev, data, {q: alt for q in qs})[:, ref]
+            if not all(bad[q] for q in qs):
+                continue
+            c = int(np.argmin(pc))
+            if pc[c] > tol:
+                continue
+            cost = pc[c] + 0.2 * (len(subset) - 1) + (0.1 if "moduli" in subset else 0.0) + \
+                0.01 * data.systems[alt].prior
+            if best is None or cost < best[0]:
+                best = (cost, subset, qs, alt, c)
+    if best is None:
+        return None
+    _cost, subset, qs, alt, c = best
+    refname, altname = data.systems[ref].name, data.systems[alt].name
+    rest = [q for q in ev.values if QUANTITY_DIMENSION[q] and q not in qs]
+    moduli_rest = any(q in ("E", "K") for q in rest)
+    rest_words = "the moduli are" if moduli_rest else ("the " + ", ".join(WORDS[q] for q in rest) +
+                                                       (" are" if len(rest) > 1 else " is"))
+    parts = [f"{WORDS[q]} {ev.values[q]:.4g} fits {_label(data, alt, q)}" for q in qs]
+    rq = rest[0]
+    writes = ", ".join(f"{_write(ev, q, alt, ref, data):.4g}" if len(qs) == 1 else
+                       f"{WORDS[q]} {_write(ev, q, alt, ref, data):.4g}" for q in qs)
+    msg = (f"material {ev.name}: {' and '.join(parts)} ({altname}) but {rest_words} in "
+           f"{_label(data, ref, rq)}: in {refname} write {writes}")
+    wtm = ev.notes.get("WTMASS")
+    if "rho" in qs and wtm is not None and wtm != 1.0:
+        msg += f" (density = RHO {ev.notes.get('RHO', float('nan')):.4g} x WTMASS {wtm:.4g})"
+    return Problem("mismatch", _sev(ev, qs), msg, ev.locs.get(qs[0], ev.loc), ev.name,
+                   {"quantities": qs, "groups": list(subset), "fits": altname, "model": refname,
+                    "class": data.class_names[c], "write": {q: _write(ev, q, alt, ref, data) for q in qs}})
+
+
+def _implausible(inf: Inference, ms: MaterialScore, c: int, ref: int, force: bool = False) -> list[Problem]:
+    data, ev = inf.data, ms.ev
+    qtol = float(data.scoring["quantity_tol"])
+    si = si_values(ev, data)
+    from .unitinfer import _derived
+
+    si.update(_derived(si))
+    cls = data.class_names[c]
+    out, flagged_base = [], False
+    for q in list(ev.values) + list(DERIVED):
+        if q not in si or q == "nu":
+            continue
+        lo, hi = data.lo[q][c], data.hi[q][c]
+        if np.isnan(lo):
+            continue
+        x = float(si[q][ref])
+        d = float(U.decades_outside(x, lo, hi))
+        if not (d > qtol) or (q in DERIVED and flagged_base):
+            continue
+        flagged_base = flagged_base or q not in DERIVED
+        parts = (q,) if q not in DERIVED else tuple(p for p in ("E", "nu", "rho", "k", "c") if p in ev.values)
+        name = WORDS.get(q) or DERIVED_WORDS[q]
+        shown = f"{ev.values[q]:.4g} {_label(data, ref, q)} = " if q in ev.values else ""
+        msg = (f"material {ev.name}: {name} {shown}{x:.4g} {SI_UNIT[q]} is outside {lo:.3g}-{hi:.3g} "
+               f"{SI_UNIT[q]} for a {cls} in {data.systems[ref].name}")
+        if q in ev.how and ev.how[q] not in (q, WORDS[q], "density"):
+            msg += f" ({WORDS[q]} taken as {ev.how[q]})"
+        sev = "warning" if _sev(ev, parts) == "error" else "note"
+        out.append(Problem("implausible", sev, msg, ev.locs.get(parts[0], ev.loc), ev.name,
+                           {"quantity": q, "value_si": x, "band": [lo, hi], "class": cls,
+                            "system": data.systems[ref].name, "decades": d}))
+    if force and not out:
+        out.append(Problem("implausible", "warning",
+                           f"material {ev.name}: no unit system and material class explains its values together",
+                           ev.loc, ev.name, {"system": data.systems[ref].name}))
+    return out
+
+
+def diagnose_gravity(inf: Inference) -> list[Problem]:
+    data = inf.data
+    g0, tol = float(data.model["gravity"]), float(data.model["gravity_rel_tol"])
+    acc = data.scales("acceleration")
+    out = []
+    for g, loc in inf.evidence.gravity:
+        ok = np.abs(g * acc / g0 - 1.0) <= tol
+        fits = [data.systems[i].name for i in np.flatnonzero(ok)]
+        if inf.ref is not None and ok[inf.ref]:
+            continue
+        if inf.ref is None and fits:
+            continue
+        if inf.ref is None:
+            msg = f"gravity {g:.6g} fits no unit system (standard gravity is {g0} m/s^2)"
+        else:
+            r = data.systems[inf.ref]
+            expect = g0 / acc[inf.ref]
+            where = (f"fits {data.systems[int(np.flatnonzero(ok)[0])].label('acceleration')} ({', '.join(fits)})"
+                     if fits else "fits no unit system")
+            msg = (f"gravity {g:.6g} {where} but the model is in {r.name}: "
+                   f"write {expect:.6g} {r.label('acceleration')}")
+        out.append(Problem("gravity", "warning", msg, loc, None,
+                           {"value": g, "fits": fits, "model": data.systems[inf.ref].name if inf.ref is not None
+                            else None, "expected": (g0 / acc[inf.ref]) if inf.ref is not None else None}))
+    return out
+
+
+def diagnose(inf: Inference) -> list[Problem]:
+    out = []
+    for ms in inf.materials:
+        out.extend(diagnose_material(inf, ms))
+    out.extend(diagnose_gravity(inf))
+    return out

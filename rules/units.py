@@ -1,0 +1,89 @@
+"""units/*: one consistent unit system for every number of the model.
+
+The unit system is inferred from the whole model (or declared with ``--units`` / config ``units``)
+by ``linter.derived.units``; see ``linter.unitinfer`` for the score and confidence, and
+``linter.unitdiagnose`` for how a disagreement is attributed to a quantity.
+"""
+from linter.registry import rule
+
+REFS = ("physics.md 5.1-5.5 (dimensions, systems, invariants, handbook values)",
+        "CalculiX CrunchiX User's Manual, section Units")
+
+
+def _problems(model, kind):
+    for p in model.derived.get("units_problems", ()):
+        if p.kind == kind:
+            yield p
+
+
+@rule("units/mismatch", severity="error", title="Values of one model written in different unit systems",
+      rationale="The solver has no units: a material whose moduli are in MPa and density in kg/m^3, or one "
+                "material pasted in Pa into an MPa model, gives masses, frequencies or stiffness wrong by "
+                "powers of ten without any message. The quantity that no single system explains is named "
+                "with the system in which it would make sense and the value to write instead. A quantity "
+                "that no analysis of the deck reads (a stray specific heat in a static model) is a note.",
+      references=REFS,
+      data="quantities: the disagreeing quantities; fits: system in which they make sense; model: the "
+           "reference system; class: material class judged from the values; write: value per quantity in "
+           "the reference system")
+def mismatch(model, ctx):
+    for p in _problems(model, "mismatch"):
+        yield ctx.finding(p.message, p.loc, material=p.material, data=p.data, severity=p.severity,
+                          defect=("units", p.material, tuple(p.data.get("quantities", ()))))
+
+
+@rule("units/implausible", severity="warning", title="A value outside every plausible range in the unit system",
+      rationale="Judged against the bands of the material's best-fitting class (metal, mineral, polymer, "
+                "composite, elastomer, foam, fluid) in the inferred or declared system, the value is "
+                "implausible, and no other unit system explains it either: a typing slip, a percent "
+                "instead of a fraction, or a wrong power of ten.",
+      references=REFS,
+      data="quantity; value_si; band (SI); class; system; decades outside the band")
+def implausible(model, ctx):
+    for p in _problems(model, "implausible"):
+        yield ctx.finding(p.message, p.loc, material=p.material, data=p.data, severity=p.severity)
+
+
+@rule("units/gravity", severity="warning", title="Gravity magnitude that does not fit the unit system",
+      rationale="Standard gravity is 9.80665 m/s^2: 9806.65 in mm/s^2, 9.80665e-3 in mm/ms^2, 386.09 in "
+                "in/s^2. 9.81 in a millimetre-tonne-second model is a thousand times too weak.",
+      references=REFS + ("physics.md 5.3 (gravity fixes L/T^2)",),
+      data="value; fits: systems it fits; model: reference system; expected: value to write")
+def gravity(model, ctx):
+    for p in _problems(model, "gravity"):
+        yield ctx.finding(p.message, p.loc, data=p.data, severity=p.severity)
+
+
+@rule("units/undetermined", severity="note", title="Too little evidence to tell the unit system",
+      rationale="The values of the model fit more than one unit system about equally well (for example only "
+                "E and nu, with no density, gravity or thermal data), so unit slips cannot be checked with "
+                "confidence. Declare the system (--units, config key units) to check against it. A declared "
+                "name that is not a known system is an error.",
+      references=REFS,
+      data="inferred; runner_up; confidence; margin; evidence (dimensions seen); known (for an unknown name)")
+def undetermined(model, ctx):
+    us = model.derived.get("unit_system")
+    if not us:
+        return
+    if us.get("declared_unknown"):
+        yield ctx.finding(f"unknown unit system {us['declared_unknown']!r} declared; known systems: "
+                          f"{', '.join(us.get('known', ()))}; the system was inferred instead",
+                          None, severity="error", data={"declared": us["declared_unknown"],
+                                                        "known": us.get("known", [])})
+    if us.get("declared") and not us.get("declared_unknown"):
+        return
+    if not us.get("evidence"):
+        if model.materials:
+            yield ctx.finding("no value in the model depends on the unit system (no moduli, density, thermal "
+                              "data, gravity or mesh): the unit system cannot be inferred", None,
+                              data={"evidence": []})
+        return
+    if any(True for _ in _problems(model, "mismatch")):
+        return  # the mismatch findings say why no single system fits
+    conf, floor = us.get("inferred_confidence", 0.0), float(ctx.threshold("units.min_confidence"))
+    if conf < floor:
+        yield ctx.finding(
+            f"the unit system is uncertain: {us.get('inferred')} fits best, {us.get('runner_up')} nearly as "
+            f"well (confidence {conf:.2f} < {floor}); evidence: {', '.join(us.get('evidence', ()))}. "
+            f"Declare it with --units to check against it", None,
+            data={k: us.get(k) for k in ("inferred", "runner_up", "margin", "evidence")} | {"confidence": conf})
