@@ -621,3 +621,12 @@ def test_sniff_low_on_ccx_result_files(tmp_path):
 
 def test_module_contract():
     assert K.FORMAT == "keyword" and K.EXTENSIONS == (".inp",) and K.DEFAULT_DIALECT == "calculix"
+
+
+def test_fields_after_the_last_node_are_not_read(deck):
+    # ccx reads a fixed node count per type; the corpus's CalculiX test deck dloadlinI.inp writes
+    # extra node numbers after the 8 of its C3D8I elements and the solver accepts it
+    m = deck("*ELEMENT, TYPE=C3D8I\n1,1,2,3,4,5,6,7,8,9,10,\n2,11,12,13,14,15,16,17,18\n")
+    b = m.element_blocks[0]
+    assert b.count == 2 and b.ids.get().tolist() == [1, 2]
+    assert b.conn.get().tolist() == [list(range(1, 9)), list(range(11, 19))]

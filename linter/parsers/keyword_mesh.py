@@ -72,12 +72,26 @@ def numbers(chunk: bytes) -> np.ndarray:
     return arr
 
 
-def _ints(data: bytes, start: int, end: int, width: int) -> np.ndarray:
+def _ints(data: bytes, start: int, end: int, width: int, per_line: bool) -> np.ndarray:
+    """(elements, width) int64 table: id and nodes. ``per_line``: one element per data line, as ccx reads
+    types of up to 15 nodes (fields after the last node are not read)."""
+    width = max(width, 1)
     arr = numbers(data[start:end])
-    arr = arr[np.isfinite(arr)].astype(np.int64)
-    if width <= 0 or arr.size % width:
-        width = max(width, 1)
-        arr = arr[: arr.size - arr.size % width]
+    lines = None
+    if per_line and arr.size % width == 0:
+        chunk = _clean(data[start:end])
+        if chunk.count(b"\n") * width != arr.size:
+            lines = chunk
+    elif per_line:
+        lines = _clean(data[start:end])
+    if lines is not None:                     # ragged lines: the first ``width`` fields of each
+        rows = [numbers(line) for line in lines.split(b"\n") if line.strip()]
+        tab = np.zeros((len(rows), width))
+        for i, r in enumerate(rows):
+            tab[i, : min(width, r.size)] = r[:width]
+        arr = tab
+    arr = np.nan_to_num(np.asarray(arr, dtype=float)).astype(np.int64).ravel()
+    arr = arr[: arr.size - arr.size % width]
     return arr.reshape(-1, width)
 
 
@@ -111,7 +125,8 @@ def read_element(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: 
             nodes = max(0, len(first.fields) - 1)
     width = nodes + 1
     data = rd.data
-    table = Lazy(lambda: _ints(data, start, end, width))
+    per_line = not spans
+    table = Lazy(lambda: _ints(data, start, end, width, per_line))
     elset_w = kw.get("ELSET")
     blk = ElementBlock(type=etype, type_as_written=etype_w, count=count, loc=kw.loc,
                        elset=norm_key(elset_w) if elset_w else None, nodes=nodes,
