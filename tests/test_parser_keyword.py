@@ -630,3 +630,13 @@ def test_fields_after_the_last_node_are_not_read(deck):
     b = m.element_blocks[0]
     assert b.count == 2 and b.ids.get().tolist() == [1, 2]
     assert b.conn.get().tolist() == [list(range(1, 9)), list(range(11, 19))]
+
+
+def test_fluid_and_general_beam_sections_name_their_material(deck):
+    # CCX-UM *FLUID SECTION, *BEAM GENERAL SECTION: both take ELSET= and MATERIAL=
+    m = deck("*FLUID SECTION, ELSET=EF, TYPE=PIPE MANNING, MATERIAL=Water\n0.1, 0.2, 0.015\n"
+             "*BEAM GENERAL SECTION, ELSET=EB, MATERIAL=ALUM, SECTION=PIPE\n0.05, 0.01\n")
+    f, b = m.sections
+    assert (f.kind, f.elset, f.materials[0].role, f.materials[0].key) == ("fluid", "EF", "fluid", "WATER")
+    assert (b.kind, b.materials[0].key, b.options["SECTION"]) == ("beam", "ALUM", "PIPE")
+    assert not m.issues

@@ -8,7 +8,8 @@ from ..model import Load, MassSource, MaterialRef, Orientation, Procedure, Secti
 from .keyword_lex import KeywordLine, Reader, is_int
 
 SECTION_CARDS = {"SOLIDSECTION": ("solid", "solid"), "SHELLSECTION": ("shell", "shell"),
-                 "MEMBRANESECTION": ("membrane", "membrane"), "BEAMSECTION": ("beam", "beam")}
+                 "MEMBRANESECTION": ("membrane", "membrane"), "BEAMSECTION": ("beam", "beam"),
+                 "BEAMGENERALSECTION": ("beam", "beam"), "FLUIDSECTION": ("fluid", "fluid")}
 
 #: procedure keyword -> kind (some depend on parameters, see :func:`procedure_kind`)
 PROCEDURE_CARDS = {
@@ -72,7 +73,9 @@ def read_section(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: 
             rd.issue("malformed-data", f"{kw.written} without MATERIAL= (the material is required)", kw.loc.line)
         else:
             mats.append(MaterialRef(role, mat_w.strip(), norm_key(mat_w), kw.loc))
-        if lines:
+        if lines and kind == "fluid":
+            opts["data"] = tuple(lines[0].fields)
+        elif lines:
             vals = []
             for f in lines[0].fields:
                 v = rd.real(f, lines[0], "section dimension", empty_is_issue=False) if f else 0.0
@@ -80,7 +83,7 @@ def read_section(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: 
             opts["dimensions"] = tuple(vals)
             if kind == "shell" and vals and vals[0] is not None:
                 opts["thickness"] = vals[0]
-        elif kind in ("shell", "membrane") or kw.key == "BEAMSECTION":
+        elif kind in ("shell", "membrane") or kw.key in ("BEAMSECTION", "BEAMGENERALSECTION"):
             rd.issue("malformed-data", f"{kw.written} has no data line (the thickness / dimensions are required)",
                      kw.loc.line)
     orient = kw.get("ORIENTATION")
