@@ -98,7 +98,8 @@ def undefined_set(model, ctx):
       title="Elements without a section or property",
       rationale="Every continuum, shell, beam and truss element needs a section that gives it a material; "
                 "the solver stops with 'no material was assigned to element N'. Springs, dashpots, masses and "
-                "gaps take their properties from their own cards and are not checked.",
+                "gaps take their properties from their own cards, and network (D) elements from *FLUID SECTION "
+                "(entry and exit elements need none): they are not checked.",
       references=(CCX_CALINPUT, BULK_GRAPH),
       data="type, count (elements without section), total (elements in the block), elset")
 def unassigned_elements(model, ctx):
@@ -107,7 +108,9 @@ def unassigned_elements(model, ctx):
     for i, n in sorted(unassigned(model).items()):
         blk = model.element_blocks[i]
         tech = cat.get(blk.type, model.dialect)
-        if tech is not None and not tech.takes_material:
+        if tech is not None and (not tech.takes_material or tech.family == "network"):
+            # network (D) elements: entry and exit elements carry no section by design (node 0),
+            # the others take theirs from *FLUID SECTION
             continue
         some = "all " if n == blk.count and n > 1 else ""
         where = f" (set {blk.elset})" if blk.elset else ""
@@ -125,10 +128,21 @@ def unassigned_elements(model, ctx):
       references=(CCX_MAT,), data="material")
 def unused_material(model, ctx):
     used = material_usage(model)
-    for mat in model.all_materials():
-        if mat.key not in used:
-            yield ctx.finding(f"material {mat.name} is not used by any section", mat.loc, material=mat.name,
-                              data={"material": mat.name})
+    unused = [m for m in model.all_materials() if m.key not in used]
+    if not unused:
+        return
+    # a misspelt material name on a section leaves the intended material unused: one defect, one finding
+    misspelt: dict[str, list] = {}
+    names = [m.key for m in unused]
+    for sec in model.sections:
+        for ref in sec.materials:
+            if ref.key not in model.materials:
+                for close in difflib.get_close_matches(ref.key, names, n=1, cutoff=0.75):
+                    misspelt.setdefault(close, []).append(("undefined-material", ref.key))
+    for mat in unused:
+        yield ctx.finding(f"material {mat.name} is not used by any section", mat.loc, material=mat.name,
+                          data={"material": mat.name},
+                          restates=tuple(misspelt.get(mat.key, ())) + include_restates(model))
 
 
 @rule("model/property-repeated", severity="warning",

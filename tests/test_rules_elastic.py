@@ -134,3 +134,54 @@ def test_near_incompressible_threshold_boundary():
     d.material("BELOW", elastic=[(12.0, 0.4799)])
     d.material("HALF", elastic=[(12.0, 0.5)])
     assert [f.material for f in d.run("elastic/near-incompressible")] == ["AT"]
+
+
+# ------------------------------------------------------------------------------------ end to end (keyword parser)
+
+HEX = """*NODE
+1, 0., 0., 0.
+2, 1., 0., 0.
+3, 1., 1., 0.
+4, 0., 1., 0.
+5, 0., 0., 1.
+6, 1., 0., 1.
+7, 1., 1., 1.
+8, 0., 1., 1.
+*ELEMENT, TYPE={etype}, ELSET=SEAL
+1, 1, 2, 3, 4, 5, 6, 7, 8
+*MATERIAL, NAME=NBR
+*ELASTIC
+{elastic}
+*DENSITY
+1.2E-9
+*SOLID SECTION, ELSET=SEAL, MATERIAL=NBR
+*STEP
+*STATIC
+*END STEP
+"""
+
+
+def _check(path):
+    from linter.check import check_paths
+
+    res = check_paths([str(path)])
+    return res.files[0].findings
+
+
+def test_end_to_end_nu_half(write_deck):
+    # ccx 2.20 on this deck: "*ERROR reading *ELASTIC: Poisson coefficient should be less than 0.5"
+    # (run here; formats.md 6 cites elastics.f)
+    p = write_deck("seal.inp", HEX.format(etype="C3D8R", elastic="12., 0.5, 20.\n12., 0.45, 80."))
+    found = [f for f in _check(p) if f.rule.startswith("elastic/")]
+    assert [(f.rule, f.line) for f in found] == [("elastic/poisson-out-of-range", 14)]
+    assert "nu = 0.5 at T = 20 on line 14" in found[0].message
+
+
+def test_end_to_end_locking(write_deck):
+    p = write_deck("seal.inp", HEX.format(etype="C3D8", elastic="12., 0.4995"))
+    found = {f.rule: f for f in _check(p)}
+    lock = found["element/volumetric-locking"]
+    assert lock.severity == "error" and lock.data["types"] == {"C3D8": {"count": 1, "grade": "severe"}}
+    assert found["elastic/near-incompressible"].line == 14
+    p = write_deck("seal2.inp", HEX.format(etype="C3D8I", elastic="12., 0.4995"))
+    assert "element/volumetric-locking" not in {f.rule for f in _check(p)}

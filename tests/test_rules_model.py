@@ -224,3 +224,52 @@ def test_no_mechanical_behaviour_skips_heat_elements():
     d.elements("DC3D8", 2, elset="T")
     d.section("solid", "T", "THERMAL")
     assert d.run("model/no-mechanical-behaviour") == []
+
+
+# ------------------------------------------------------------------------------------ end to end (keyword parser)
+
+DECK = """*NODE
+1, 0., 0., 0.
+2, 1., 0., 0.
+3, 1., 1., 0.
+4, 0., 1., 0.
+5, 0., 0., 1.
+6, 1., 0., 1.
+7, 1., 1., 1.
+8, 0., 1., 1.
+*ELEMENT, TYPE=C3D8I, ELSET=PART
+1, 1, 2, 3, 4, 5, 6, 7, 8
+*ELEMENT, TYPE=C3D8I, ELSET=LOOSE
+2, 1, 2, 3, 4, 5, 6, 7, 8
+*INCLUDE, INPUT=lib/missing.inp
+*MATERIAL, NAME=STEEL
+*ELASTIC
+210000., 0.3
+*MATERIAL, NAME=SPARE
+*ELASTIC
+70000., 0.33
+*SOLID SECTION, ELSET=PART, MATERIAL=STEL
+*STEP
+*STATIC
+*END STEP
+"""
+
+
+def test_end_to_end_model_graph(write_deck):
+    from linter.check import check_paths
+
+    p = write_deck("model.inp", DECK)
+    findings = check_paths([str(p)]).files[0].findings
+    rules = {f.rule: f for f in findings}
+    # the undefined material, the unassigned block and the unused material may all follow from the
+    # missing include (it could hold them): reported once, as the include problem
+    assert "parse/missing-include" in rules
+    assert not {"model/undefined-material", "model/unassigned-elements", "model/unused-material"} & set(rules)
+    p2 = write_deck("model2.inp", DECK.replace("*INCLUDE, INPUT=lib/missing.inp\n", ""))
+    rules2 = {f.rule: f for f in check_paths([str(p2)]).files[0].findings}
+    assert rules2["model/undefined-material"].line == 20 and "did you mean STEEL" in rules2["model/undefined-material"].message
+    assert rules2["model/unassigned-elements"].line == 12
+    # SPARE is unused and not the near miss of the misspelt STEL, so it is still reported
+    assert rules2["model/unused-material"].line == 17
+    unused = [f.material for f in check_paths([str(p2)]).files[0].findings if f.rule == "model/unused-material"]
+    assert unused == ["SPARE"]  # STEEL is left unused only by the misspelling, reported once
