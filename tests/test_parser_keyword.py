@@ -640,3 +640,13 @@ def test_fluid_and_general_beam_sections_name_their_material(deck):
     assert (f.kind, f.elset, f.materials[0].role, f.materials[0].key) == ("fluid", "EF", "fluid", "WATER")
     assert (b.kind, b.materials[0].key, b.options["SECTION"]) == ("beam", "ALUM", "PIPE")
     assert not m.issues
+
+
+def test_unknown_hyperelastic_parameter_and_extra_values(deck):
+    # formats.md 2.8 (CCX-SRC hyperelastics.f): an unknown model name is warned about, POLYNOMIAL N=1 used
+    m = deck("*MATERIAL, NAME=R\n*HYPERELASTIC, GENT\n1.,2.,0.01\n*DENSITY\n1.,20.,99.\n")
+    assert m.materials["R"].first("hyperelastic").form == "polynomial-1"
+    assert issue(m, "unknown-option").data["option"] == "GENT"
+    extra = issue(m, "malformed-data")
+    assert extra.loc.line == 5 and extra.data["severity"] == "warning"
+    assert m.materials["R"].first("density").rows[0].temperature == 20.0

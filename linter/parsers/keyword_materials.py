@@ -34,7 +34,7 @@ _HYPER_N = {"ogden", "polynomial", "reduced-polynomial"}
 
 def _by_prefix(value: str, table) -> Optional[str]:
     for prefix, form in table:
-        if value.startswith(prefix) or (len(value) >= 3 and prefix.startswith(value) and form != "engineering"):
+        if value.startswith(prefix):
             return form
     return None
 
@@ -103,6 +103,9 @@ def _hyper_form(rd: Reader, kw: KeywordLine, mat: Material) -> tuple[str, dict]:
             model, model_pos = _HYPER[name], i
         elif name == "N":
             n_pos = i
+        else:
+            rd.issue("unknown-option", f"*HYPERELASTIC: parameter {name} is not recognised (CalculiX warns and "
+                     "ignores it)", kw.loc.line, material=mat.name, option=name, value=kw.params[name])
     opts = {"MODEL": model}
     if n_pos is not None:
         raw = kw.upper("N", "1")
@@ -200,5 +203,5 @@ def _finish_row(rd: Reader, block: PropertyBlock, fields: list[str], blanks: lis
         temp = t
         if len(fields) > tpos + 1 and any(fields[tpos + 1:]):
             rd.issue("malformed-data", f"{block.card}: {len(fields) - tpos - 1} value(s) after the temperature "
-                     "are not read", loc.line, material=mat.name)
+                     "are not read by the solver", loc.line, material=mat.name, severity="warning")
     block.rows.append(Row(values=tuple(vals), temperature=temp, loc=loc, blanks=tuple(blank_idx)))
