@@ -111,3 +111,43 @@ def test_temperature_order_warning_in_other_dialects():
     d2 = Deck(fmt="bulk", dialect="mystran", path="d.bdf")
     d2.material("M", elastic=[(1e7, 0.3), (1e7, 0.3)])
     assert d2.run("property/temperature-order") == []
+
+
+# ------------------------------------------------------------------------------------ end to end (keyword parser)
+
+DECK = """*NODE
+1, 0., 0., 0.
+2, 1., 0., 0.
+3, 1., 1., 0.
+4, 0., 1., 0.
+5, 0., 0., 1.
+6, 1., 0., 1.
+7, 1., 1., 1.
+8, 0., 1., 1.
+*ELEMENT, TYPE=C3D8I, ELSET=PART
+1, 1, 2, 3, 4, 5, 6, 7, 8
+*MATERIAL, NAME=STEEL
+*ELASTIC
+210000., 0.3, 100.
+200000., 0.3, 20.
+*DENSITY
+0.
+*CONDUCTIVITY
+, 20.
+*SOLID SECTION, ELSET=PART, MATERIAL=STEEL
+*STEP
+*STATIC
+*END STEP
+"""
+
+
+def test_end_to_end_property_rules(write_deck):
+    # ccx 2.20 runs this deck without a message (checked here): it does not check the table order itself
+    from linter.check import check_paths
+
+    p = write_deck("prop.inp", DECK)
+    found = [(f.rule, f.line) for f in check_paths([str(p)]).files[0].findings
+             if f.rule.startswith(("property/", "parse/empty-field"))]
+    # the empty conductivity field on line 19 is reported once, as parse/empty-field
+    assert sorted(found) == [("parse/empty-field", 19), ("property/nonpositive", 17),
+                             ("property/temperature-order", 15)]
