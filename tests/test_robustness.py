@@ -491,3 +491,22 @@ def test_bad_files_do_not_stop_the_others(write_deck, tmp_path):
     assert {"parse/binary-file", "parse/not-a-deck", "parse/path-not-found"} <= {f.rule for f in r.general}
     assert {"empty.inp", "cut.inp", "num.inp", "good.inp"} <= set(reports)
     assert exit_code(r, "error") == 2
+
+
+# --------------------------------------------------------------------------- found by the fuzz suite
+
+
+@pytest.mark.parametrize("extra", [
+    "*ELSET, ELSET=E\n" + "1" * 40 + "\n",                       # integer beyond 64 bits in a set
+    "*NODE\n" + "9" * 30 + ", 0., 0., 0.\n",                     # node id beyond 64 bits
+    "*NODE\n9, 1.2.3, 0., 0.\n",                                 # malformed coordinate
+    "*NODE\n10, 7.85-9, --5, 0.\n",
+    "*ELEMENT, TYPE=C3D8, ELSET=E2\n2, 1, 2, 3, 4, 5, 6, 7, " + "8" * 25 + "\n",
+])
+def test_keyword_mesh_numbers_out_of_range(write_deck, extra):
+    need("keyword")
+    p = write_deck("mesh.inp", kw(extra_model=extra))
+    # mesh lines are not material data: the parser need not report them, but it must not fail
+    r = run([p])      # run() fails on any internal/* finding
+    assert [m["name"] for m in r.files[0].materials] == ["STEEL"]
+    assert not r.files[0].incomplete
