@@ -118,9 +118,11 @@ def volumetric_locking(model, ctx):
         suggestions = _ordered(alts)
         if suggestions:
             msg += f"; use {', '.join(suggestions)} instead"
-        if unknown:
+        if unknown and model.format == "bulk":
             msg += ("; for these bulk solids the dialect and the element's integration options (PSOLID IN/ISOP) "
                     "decide whether they lock: ISOP=REDUCED is reduced shear integration, not a volumetric cure")
+        elif unknown:
+            msg += "; for the elements of unknown grade (user elements) their own formulation decides"
         data = {"cause": cause["kind"] if cause else "plastic", "plastic": plastic,
                 "types": {t: {"count": c, "grade": tech.locking} for t, (c, tech, _s) in affected.items()},
                 "alternatives": alts}

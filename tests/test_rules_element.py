@@ -135,3 +135,10 @@ def test_unused_material_not_reported():
     d.material("M", elastic=[(12.0, 0.49)])
     d.elements("C3D8", 5, elset="A")
     assert d.run(RULE) == []
+
+
+def test_user_element_unknown_grade():
+    d = _deck({"elastic": [(12.0, 0.4999)]}, ("U1", 4))
+    found = d.run(RULE)
+    assert len(found) == 1 and found[0].severity == "warning"
+    assert "own formulation" in found[0].message and "PSOLID" not in found[0].message
