@@ -227,7 +227,7 @@ def no_mechanical_behaviour(model, ctx):
     for mat in model.all_materials():
         if any(mat.has(k) for k in MECHANICAL_KINDS):
             continue
-        uses = usage.get(mat.key)
+        uses = [u for u in usage.get(mat.key, ()) if u.role != "thermal"]
         if not uses:
             continue
         types = {t for u in uses for t, n in u.counts.items() if n}

@@ -298,3 +298,14 @@ def test_keyword_corpus_has_no_fatal_findings(corpus_dir):
     failed = [(r.path, f.data.get("failed_rule")) for r in res.files for f in r.findings
               if f.rule.startswith("internal/") and str(f.data.get("failed_rule", "")).startswith(MINE)]
     assert bad == [] and failed == []
+
+
+def test_no_mechanical_behaviour_ignores_thermal_references():
+    d = Deck(fmt="bulk", dialect="nastran", path="d.bdf")
+    d.material("MID 4", conductivity=[(50.0,)])
+    d.elements("CQUAD4", 2, elset="PID 1")
+    d.section("shell", "PID 1", "MID 4", role="thermal", card="PSHELL")
+    d.step("static")
+    assert d.run("model/no-mechanical-behaviour") == []
+    d.section("shell", "PID 1", "MID 4", role="membrane", card="PSHELL")
+    assert len(d.run("model/no-mechanical-behaviour")) == 1
