@@ -21,7 +21,7 @@ import numpy as np
 from .model import Loc
 from .physics import units as U
 from .unitevidence import GROUPS, QUANTITY_DIMENSION, WORDS
-from .unitinfer import DERIVED, Inference, MaterialScore, _subsets, class_misfit, equivalent, si_values
+from .unitinfer import DERIVED, Inference, MaterialScore, _slip_bad, _subsets, class_misfit, equivalent, si_values
 
 SI_UNIT = {"E": "Pa", "K": "Pa", "yield": "Pa", "rho": "kg/m^3", "k": "W/(m K)", "c": "J/(kg K)",
            "alpha": "1/K", "c0": "m/s", "cd": "m/s", "a": "m^2/s", "rhoc": "J/(m^3 K)"}
@@ -76,23 +76,23 @@ def diagnose_material(inf: Inference, ms: MaterialScore) -> list[Problem]:
         return [Problem("mismatch", _sev(ev, dimq), msg, ev.locs.get(q0, ev.loc), ev.name,
                         {"quantities": dimq, "fits": data.systems[alt].name, "model": refname, "class": cls,
                          "write": {q: _write(ev, q, alt, ref, data) for q in dimq}})]
-    found = _split(inf, ms)
+    # the moduli may be the slipped group when they fit no class as written, or, loosely (more than
+    # one decade off the class of the rest), when no other material's moduli fit the reference
+    anchored = any(o.ev.key != ev.key and "E" in o.ev.values and o.misfit[ref] <= tol for o in inf.materials)
+    found = _split(inf, ms, loose_moduli=not anchored)
     if found is not None:
         return [found]
     return _implausible(inf, ms, int(ms.best_class[ref]), ref, force=True)
 
 
-def _split(inf: Inference, ms: MaterialScore) -> Optional[Problem]:
+def _split(inf: Inference, ms: MaterialScore, loose_moduli: bool = False) -> Optional[Problem]:
     data, ref, ev = inf.data, inf.ref, ms.ev
     tol = float(data.scoring["material_tol"])
     qtol = float(data.scoring["quantity_tol"])
     groups = [g for g in GROUPS if any(q in ev.values and QUANTITY_DIMENSION[q] for q in GROUPS[g])]
-    si = si_values(ev, data)
     # only a quantity that fits no class at all when read in the reference system can be the slipped one
-    # (among the classes that have a band for every quantity the material gives: no fluid with an E)
-    fit = np.all([~np.isnan(data.lo[q]) for q in ev.values], axis=0)
-    bad = {q: bool(np.all(U.decades_outside(si[q][ref], data.lo[q][fit], data.hi[q][fit]) > qtol))
-           for q in si if q != "nu"}
+    si = si_values(ev, data)
+    bad = {q: bool(v[ref]) for q, v in _slip_bad(ev, data).items()}
     best = None
     for subset in _subsets(groups):
         if len(subset) == len(groups):
@@ -104,10 +104,13 @@ def _split(inf: Inference, ms: MaterialScore) -> Optional[Problem]:
                               data.systems[ref].scale(QUANTITY_DIMENSION[q])) for q in qs):
                 continue
             pc = class_misfit(ev, data, {q: alt for q in qs})[:, ref]
-            if not all(bad[q] for q in qs):
-                continue
             c = int(np.argmin(pc))
             if pc[c] > tol:
+                continue
+            loose = loose_moduli and "moduli" in subset and all(
+                bad[q] or q in ("E", "K") and float(U.decades_outside(si[q][ref], data.lo[q][c], data.hi[q][c])) > 1.0
+                for q in qs)
+            if not (all(bad[q] for q in qs) or loose):
                 continue
             cost = pc[c] + 0.2 * (len(subset) - 1) + (0.1 if "moduli" in subset else 0.0) + \
                 0.01 * data.systems[alt].prior

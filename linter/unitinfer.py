@@ -166,20 +166,31 @@ def score_material(ev: MaterialEvidence, data: UnitData) -> MaterialScore:
     consistent = bool(np.nanmin(mis) <= tol) if ev.values else True
     reading = mis.copy()
     if not consistent:
-        # no single system explains the material: read it as carrying a unit slip in a group other
-        # than the moduli (the moduli anchor the system), at the cost slip_penalty
-        groups = [g for g in GROUPS if g != "moduli" and any(q in ev.values for q in GROUPS[g])]
+        # no single system explains the material: in each system s, read it as carrying a unit slip in
+        # a group other than the moduli (the moduli anchor the system) when that explains it fully
+        # (misfit <= material_tol) and the slipped values fit no class as written; cost slip_penalty
         pen = float(data.scoring["slip_penalty"])
-        reading = np.full_like(mis, float(data.scoring["material_cap"]))
+        bad = _slip_bad(ev, data)
+        groups = [g for g in GROUPS if g != "moduli" and any(q in ev.values for q in GROUPS[g])]
+        best = mis.copy()
         for subset in _subsets(groups):
             qs = [q for g in subset for q in GROUPS[g] if q in ev.values]
-            alts = set.intersection(*(set(data.slip_sources[g]) for g in subset))
-            for alt in alts:
+            ok = np.all([bad[q] for q in qs], axis=0)
+            for alt in set.intersection(*(set(data.slip_sources[g]) for g in subset)):
                 m = class_misfit(ev, data, {q: alt for q in qs}).min(axis=0)
-                reading = np.minimum(reading, m + pen)
-        reading = np.minimum(reading, mis + pen)
+                best = np.where(ok & (m <= tol), np.minimum(best, m), best)
+        reading = best + pen
     dims = frozenset(QUANTITY_DIMENSION[q] for q in ev.values if QUANTITY_DIMENSION[q])
     return MaterialScore(ev, pc, mis, pc.argmin(axis=0), reading, consistent, dims)
+
+
+def _slip_bad(ev: MaterialEvidence, data: UnitData) -> dict[str, np.ndarray]:
+    """q -> (S,): the value of q read in system s fits no class that has a band for every quantity given."""
+    qtol = float(data.scoring["quantity_tol"])
+    fit = np.all([~np.isnan(data.lo[q]) for q in ev.values], axis=0)
+    si = si_values(ev, data)
+    return {q: np.all(U.decades_outside(si[q][None, :], data.lo[q][fit][:, None], data.hi[q][fit][:, None]) > qtol,
+                      axis=0) for q in si if q != "nu"}
 
 
 def _subsets(groups):
