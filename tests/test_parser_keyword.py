@@ -650,3 +650,11 @@ def test_unknown_hyperelastic_parameter_and_extra_values(deck):
     extra = issue(m, "malformed-data")
     assert extra.loc.line == 5 and extra.data["severity"] == "warning"
     assert m.materials["R"].first("density").rows[0].temperature == 20.0
+
+
+def test_oversized_integers_in_sets_are_malformed_not_fatal(deck):
+    # formats.md 1.2 (CCX-SRC noelsets.f): integers are read with (i10)
+    m = deck("*ELSET, ELSET=E\n1111111111111111111111, 3\n*ELSET, ELSET=G, GENERATE\n1, 99999999999\n"
+             "1, 900000000, 1\n")
+    assert [i.loc.line for i in m.issues if i.code == "malformed-data"] == [2, 4, 5]
+    assert [a.tolist() for a in m.element_sets["E"].ids] == [[3]]

@@ -19,6 +19,8 @@ LONG_TYPES = {"C3D20": 20, "C3D20R": 20, "C3D20RI": 20, "DC3D20": 20, "C3D20T": 
               "C3D15": 15, "DC3D15": 15, "F3D20": 20}
 EXACT_NODES_LIMIT = 200_000
 SAMPLE_LINES = 20_000
+MAX_INT_DIGITS = 10
+MAX_GENERATE = 50_000_000
 _COMMENT_LINE = re.compile(rb"(?m)^[ \t]*\*\*.*\n?")
 _BLANK_LINE = re.compile(rb"(?m)^[ \t,]*\n")
 _TRAILING = re.compile(rb",[ \t]*(?=\n)")
@@ -162,7 +164,7 @@ def read_elset(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: in
     generate = "GENERATE" in kw.params
     if not generate and end - start > 1 << 20:      # big explicit set: numpy, no per-line Python
         vals = numbers(rd.data[start:end])
-        if np.isfinite(vals).all():
+        if np.isfinite(vals).all() and (vals.size == 0 or np.abs(vals).max() < 1e10):
             es.ids.append(vals.astype(np.int64))
             return
     for line in rd.lines(start, end, first_line):
@@ -172,10 +174,18 @@ def read_elset(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: in
                 rd.issue("malformed-data", f"*ELSET, GENERATE needs 'first, last[, increment]': {line.raw.strip()}",
                          line.loc.line)
                 continue
+            if any(len(x.lstrip("+-")) > MAX_INT_DIGITS for x in f[:3]):
+                rd.issue("malformed-data", f"*ELSET, GENERATE: a number has more than {MAX_INT_DIGITS} digits "
+                         "(CalculiX reads integers with i10)", line.loc.line)
+                continue
             a, b = int(f[0]), int(f[1])
             inc = int(f[2]) if len(f) > 2 and f[2] else 1
             if inc <= 0:
                 rd.issue("malformed-data", f"*ELSET, GENERATE increment {inc} is not positive", line.loc.line)
+                continue
+            if (b - a) // inc > MAX_GENERATE:
+                rd.issue("malformed-data", f"*ELSET, GENERATE {a}..{b} would make more than {MAX_GENERATE} ids; "
+                         "not expanded", line.loc.line)
                 continue
             es.ids.append(np.arange(a, b + 1, inc, dtype=np.int64))
             continue
@@ -184,6 +194,10 @@ def read_elset(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: in
             if not f:
                 continue
             if is_int(f):
+                if len(f.lstrip("+-")) > MAX_INT_DIGITS:
+                    rd.issue("malformed-data", f"element number {f} has more than {MAX_INT_DIGITS} digits "
+                             "(CalculiX reads integers with i10)", line.loc.line)
+                    continue
                 ids.append(int(f))
             else:
                 es.nested.append(norm_key(f))
@@ -204,8 +218,9 @@ def read_node(rd: Reader, kw: KeywordLine, start: int, end: int, model, nlines: 
     else:
         table = _node_sample(data, start, end)
         exact = False
+    table = table[np.isfinite(table).all(axis=1)]
     if table.size:
-        lo, hi = np.nanmin(table[:, 1:], axis=0), np.nanmax(table[:, 1:], axis=0)
+        lo, hi = table[:, 1:].min(axis=0), table[:, 1:].max(axis=0)
         if geo.bbox_min is None:
             geo.bbox_min, geo.bbox_max = lo, hi
         else:
