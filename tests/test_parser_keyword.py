@@ -658,3 +658,9 @@ def test_oversized_integers_in_sets_are_malformed_not_fatal(deck):
              "1, 900000000, 1\n")
     assert [i.loc.line for i in m.issues if i.code == "malformed-data"] == [2, 4, 5]
     assert [a.tolist() for a in m.element_sets["E"].ids] == [[3]]
+
+
+def test_sniff_reads_utf16_and_bom_heads():
+    text = CUBE + "*MATERIAL, NAME=A\n"
+    assert K.sniff(text.encode("utf-16")) >= 0.7
+    assert K.sniff(b"\xef\xbb\xbf" + text.encode()) >= 0.7

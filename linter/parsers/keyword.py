@@ -65,6 +65,11 @@ def _load_catalogue():
 
 def sniff(head: bytes) -> float:
     """How much ``head`` looks like a keyword deck (0..1)."""
+    for bom, enc in ((b"\xff\xfe", "utf-16-le"), (b"\xfe\xff", "utf-16-be")):
+        if head.startswith(bom):
+            head = head[2:len(head) - (len(head) % 2)].decode(enc, errors="ignore").encode("utf-8", "ignore")
+    if head.startswith(b"\xef\xbb\xbf"):
+        head = head[3:]
     if not head.strip():
         return 0.0
     lines = [ln.strip() for ln in head[:65536].splitlines()[:400]]
