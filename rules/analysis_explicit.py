@@ -34,6 +34,9 @@ def smallest_length(model, key: str) -> Optional[float]:
     if got is None:
         return None
     node_ids, coords = got
+    lookup = model.derived.get("_node_lookup")
+    if lookup is None:
+        lookup = model.derived["_node_lookup"] = M.NodeLookup(node_ids)
     best = None
     for use in material_usage(model).get(key, ()):
         sel = resolve_set(model, use.section.elset)
@@ -46,7 +49,7 @@ def smallest_length(model, key: str) -> Optional[float]:
             conn = blk.conn.get()
             if conn is None or np.size(conn) == 0:
                 continue
-            L = M.smallest_edge(conn, node_ids, coords, blk.type, mask)
+            L = M.smallest_edge(conn, lookup, coords, blk.type, mask)
             if L is not None and (best is None or L < best):
                 best = L
     return best

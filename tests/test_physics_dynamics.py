@@ -54,6 +54,7 @@ def test_smallest_edge_of_hand_built_hexahedra():
     assert M.min_edge_lengths(conn, ids, coords, "C3D8").tolist() == pytest.approx([2.0, 1.5])
     assert M.smallest_edge(conn, ids, coords, "CHEXA8") == pytest.approx(1.5)
     assert M.smallest_edge(conn, ids, coords, "C3D8", mask=np.array([True, False])) == pytest.approx(2.0)
+    assert M.smallest_edge(conn, ids, coords, "C3D8", chunk=1) == pytest.approx(1.5)  # measured in pieces
     # the diagonal of a face (sqrt(13)) is not an edge, so skewing the node order changes the answer
     shuffled = conn[:, [0, 2, 1, 3, 4, 6, 5, 7]]
     assert M.min_edge_lengths(shuffled, ids, coords, "C3D8")[0] == pytest.approx(3.0)

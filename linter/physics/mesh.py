@@ -58,11 +58,21 @@ def edge_pairs(element_type: str, nodes: int) -> tuple[tuple[int, int], ...]:
     return tuple(combinations(range(nodes), 2))
 
 
-def node_index(node_ids: np.ndarray, wanted: np.ndarray) -> np.ndarray:
-    """Row index in ``node_ids`` of every id in ``wanted`` (-1 where the node is not defined)."""
-    ids = np.asarray(node_ids, dtype=np.int64)
-    order = np.argsort(ids, kind="stable")
-    sorted_ids = ids[order]
+class NodeLookup:
+    """Node ids sorted once, for repeated id -> row look-ups."""
+
+    __slots__ = ("order", "sorted_ids")
+
+    def __init__(self, node_ids: np.ndarray):
+        ids = np.asarray(node_ids, dtype=np.int64)
+        self.order = np.argsort(ids, kind="stable")
+        self.sorted_ids = ids[self.order]
+
+
+def node_index(node_ids, wanted: np.ndarray) -> np.ndarray:
+    """Row index in ``node_ids`` (an array or a :class:`NodeLookup`) of every id in ``wanted`` (-1: not defined)."""
+    lk = node_ids if isinstance(node_ids, NodeLookup) else NodeLookup(node_ids)
+    order, sorted_ids = lk.order, lk.sorted_ids
     pos = np.searchsorted(sorted_ids, wanted)
     pos = np.clip(pos, 0, max(sorted_ids.size - 1, 0))
     ok = sorted_ids.size > 0
@@ -81,18 +91,27 @@ def min_edge_lengths(conn: np.ndarray, node_ids: np.ndarray, coords: np.ndarray,
     pairs = np.array(edge_pairs(element_type, conn.shape[1]), dtype=np.int64)
     idx = node_index(node_ids, conn)
     xyz = coords[np.where(idx < 0, 0, idx)]                    # (n, nodes, 3)
-    d = np.linalg.norm(xyz[:, pairs[:, 0]] - xyz[:, pairs[:, 1]], axis=2)   # (n, edges)
-    out = d.min(axis=1)
+    diff = xyz[:, pairs[:, 0]] - xyz[:, pairs[:, 1]]                         # (n, edges, 3)
+    out = np.sqrt(np.einsum("nek,nek->ne", diff, diff).min(axis=1))
     out[(idx < 0).any(axis=1)] = np.nan
     return out
 
 
 def smallest_edge(conn: np.ndarray, node_ids: np.ndarray, coords: np.ndarray, element_type: str,
-                  mask: Optional[np.ndarray] = None) -> Optional[float]:
-    """The smallest edge over the (selected) elements; None when none can be measured."""
+                  mask: Optional[np.ndarray] = None, chunk: int = 65536) -> Optional[float]:
+    """The smallest edge over the (selected) elements; None when none can be measured.
+
+    Elements are measured ``chunk`` at a time, so that memory stays bounded on large meshes."""
     conn = np.asarray(conn)
     if mask is not None:
         conn = conn[mask]
-    lengths = min_edge_lengths(conn, node_ids, coords, element_type)
-    lengths = lengths[np.isfinite(lengths) & (lengths > 0)] if lengths.size else lengths
-    return float(lengths.min()) if lengths.size else None
+    best = None
+    if not isinstance(node_ids, NodeLookup):
+        node_ids = NodeLookup(node_ids)
+    for start in range(0, conn.shape[0] if conn.ndim == 2 else 0, max(int(chunk), 1)):
+        lengths = min_edge_lengths(conn[start:start + chunk], node_ids, coords, element_type)
+        lengths = lengths[np.isfinite(lengths) & (lengths > 0)]
+        if lengths.size:
+            m = float(lengths.min())
+            best = m if best is None else min(best, m)
+    return best
