@@ -130,6 +130,12 @@ def _split(inf: Inference, ms: MaterialScore, loose_moduli: bool = False) -> Opt
                        f"{WORDS[q]} {_write(ev, q, alt, ref, data):.4g}" for q in qs)
     msg = (f"material {ev.name}: {' and '.join(parts)} ({altname}) but {rest_words} in "
            f"{_label(data, ref, rq)}: in {refname} write {writes}")
+    if "E" in qs and ev.how.get("E", "").startswith("3 mu0"):
+        f = data.systems[alt].scale("stress") / data.systems[ref].scale("stress")
+        msg += f"; that is, multiply the stress-like constants (C, mu) by {f:.4g} and the D constants by {1 / f:.4g}"
+    how = [f"{WORDS[q]} taken as {ev.how[q]}" for q in qs if ev.how.get(q) not in (None, q, WORDS[q], "density")]
+    if how:
+        msg += f" ({'; '.join(how)})"
     wtm = ev.notes.get("WTMASS")
     if "rho" in qs and wtm is not None and wtm != 1.0:
         msg += f" (density = RHO {ev.notes.get('RHO', float('nan')):.4g} x WTMASS {wtm:.4g})"
@@ -160,7 +166,8 @@ def _implausible(inf: Inference, ms: MaterialScore, c: int, ref: int, force: boo
         flagged_base = flagged_base or q not in DERIVED
         parts = (q,) if q not in DERIVED else tuple(p for p in ("E", "nu", "rho", "k", "c") if p in ev.values)
         name = WORDS.get(q) or DERIVED_WORDS[q]
-        shown = f"{ev.values[q]:.4g} {_label(data, ref, q)} = " if q in ev.values else ""
+        scaled = q in ev.values and not np.isclose(x, ev.values[q], rtol=1e-9)
+        shown = f"{ev.values[q]:.4g} {_label(data, ref, q)} = " if scaled else ""
         msg = (f"material {ev.name}: {name} {shown}{x:.4g} {SI_UNIT[q]} is outside {lo:.3g}-{hi:.3g} "
                f"{SI_UNIT[q]} for a {cls} in {data.systems[ref].name}")
         if q in ev.how and ev.how[q] not in (q, WORDS[q], "density"):

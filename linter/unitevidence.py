@@ -62,6 +62,10 @@ class ModelEvidence:
     needs: dict[str, bool]
 
 
+def _finite(x) -> bool:
+    return isinstance(x, (int, float)) and math.isfinite(x)
+
+
 def _first(block, col: str) -> Optional[float]:
     if block is None or col not in block.layout:
         return None
@@ -110,6 +114,11 @@ def _elastic(mat: Material, ev: MaterialEvidence) -> None:
         if blk.form == "iso":
             e, nu = _first(blk, "E"), _first(blk, "nu")
             how = "E"
+            rows = [r for r in mat.derived.get("elastic") or () if isinstance(r, dict)
+                    and r.get("block") == mat.blocks.index(blk)]
+            if rows and _finite(rows[0].get("E")):     # the elastic derivation's rows, when present
+                e = float(rows[0]["E"])
+                nu = float(rows[0]["nu"]) if _finite(rows[0].get("nu")) else nu
         elif blk.form in ("engineering", "lamina"):
             e, nu, how = _max_abs(blk, ("E1", "E2", "E3")), None, "largest of E1, E2, E3"
         elif blk.form in ("ortho", "aniso"):
@@ -154,9 +163,9 @@ def material_evidence(mat: Material, needs: dict[str, bool], assigned: bool = Tr
     rho = _first(rho_blk, "rho")
     if rho:
         ev.values["rho"], ev.locs["rho"], ev.how["rho"] = abs(rho), rho_blk.rows[0].loc, "density"
-        for k in ("RHO", "WTMASS"):
-            if isinstance(rho_blk.options.get(k), (int, float)):
-                ev.notes[k] = float(rho_blk.options[k])
+        for k, v in rho_blk.options.items():
+            if str(k).upper() in ("RHO", "WTMASS") and isinstance(v, (int, float)):
+                ev.notes[str(k).upper()] = float(v)
     for kind, q, cols in (("conductivity", "k", ("k", "k11", "k22", "k33")),
                           ("specific_heat", "c", ("c",)),
                           ("expansion", "alpha", ("alpha", "a11", "a22", "a33"))):

@@ -225,3 +225,15 @@ def test_keyword_deck_declared_unknown(write_deck):
     rep = _check(write_deck("clean.inp", DECK.format(rho="7.85E-9", g="9810.")), units="parsec-stone-s")
     err = [f for f in rep.findings if f.rule == "units/undetermined"]
     assert err and err[0].severity == "error" and "known systems" in err[0].message
+
+
+def test_hyperelastic_constants_in_pa_in_mpa_model():
+    # natural rubber C10 0.2, C01 0.05 MPa, D1 = 2/K with K ~ 2 GPa (physics.md 5.5; K from memory), the whole
+    # block written in Pa (D1 in 1/Pa), density in t/mm^3
+    rub = material("NR", hyper=("mooney-rivlin", (0.2e6, 0.05e6, 1e-9)), rho=9.3e-10, line=30)
+    found = run(model(material("S", **STEEL_MM), rub, steps=("frequency",)))
+    mm = by_rule(found, "units/mismatch")
+    assert len(mm) == 1 and mm[0].material == "NR" and "E" in mm[0].data["quantities"]
+    assert mm[0].data["fits"] == "m-kg-s" and "3 mu0" in mm[0].message
+    assert "by 1e-06 and the D constants by 1e+06" in mm[0].message   # Pa -> MPa (SI prefixes)
+    assert mm[0].data["write"]["E"] == pytest.approx(1.5)    # 3 mu0 = 3 * 2 (C10 + C01) = 1.5 MPa
