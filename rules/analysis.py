@@ -93,15 +93,17 @@ def materials_on(model: DeckModel, target: Optional[str]) -> set:
 
 
 def mass_cover(model: DeckModel, key: str) -> tuple[bool, list]:
-    """(covered, untargeted sources): a mass source on a set that overlaps the material's elements covers it.
+    """(covered, other sources): a mass source on a set that overlaps the material's elements covers it.
 
-    A source without a target (e.g. a point mass on a grid) gives mass to the model but not to the
-    material's elements; it is returned so that the caller can lower the severity."""
-    untargeted = [ms for ms in model.mass_sources if ms.target is None]
+    Sources without a target (e.g. CONM2 on a grid) or on other elements (keyword *MASS elements) give
+    the model mass but not to this material's elements: they are returned so that the caller can say
+    so and lower the severity (the analysis runs, but this material's elements have no inertia)."""
+    others = []
     for ms in model.mass_sources:
         if ms.target is not None and key in materials_on(model, ms.target):
-            return True, untargeted
-    return False, untargeted
+            return True, []
+        others.append(ms)
+    return False, others
 
 
 def _steps_needing(model: DeckModel, need: str):
@@ -119,7 +121,7 @@ def _step_words(step, proc) -> str:
       rationale="Frequency, dynamic and transient heat-transfer analyses need mass (density); gravity and "
                 "centrifugal loads need it to load the structure. Without it the solver stops, or the "
                 "material's elements carry no mass or load.",
-      references=(CCX_MAT, NAS_SOL), data="need (mass|transient_thermal|body_load), step, line, point_masses")
+      references=(CCX_MAT, NAS_SOL), data="need (mass|transient_thermal|body_load), step, line, other_mass_sources (count of mass sources not on these elements)")
 def missing_density(model, ctx):
     reported = set()
     for need in ("mass", "transient_thermal"):
@@ -127,22 +129,22 @@ def missing_density(model, ctx):
             for mat in used_materials(model):
                 if mat.key in reported or has_positive(mat, "density", "rho"):
                     continue
-                covered, untargeted = mass_cover(model, mat.key) if need == "mass" else (False, [])
+                covered, others = mass_cover(model, mat.key) if need == "mass" else (False, [])
                 if covered:
                     continue
                 reported.add(mat.key)
                 what = "mass for the dynamics" if need == "mass" else "a density for the heat capacity"
                 sev, extra = None, ""
-                if untargeted:
+                if others:
                     sev = "warning"
-                    extra = (f"; the model has {len(untargeted)} point mass(es) not tied to these elements, so it "
-                             "runs, but this material's elements carry no mass")
+                    extra = (f"; the model has {len(others)} other mass source(s) (point masses, non-structural "
+                             "mass) not on these elements, so it runs, but this material's elements carry no mass")
                 yield ctx.finding(
                     f"material {mat.name} has no density, but {_step_words(step, proc)} needs {what} "
                     f"({element_count(model, mat.key)} element(s) use it){extra}",
                     mat.loc, material=mat.name, severity=sev,
                     data={"need": need, "step": step.name, "line": proc.loc.line,
-                          "point_masses": len(untargeted)})
+                          "other_mass_sources": len(others)})
     for step in model.steps:
         for load in step.loads:
             if load.kind not in ("gravity", "centrifugal"):
@@ -157,7 +159,7 @@ def missing_density(model, ctx):
                     f"material {mat.name} has no density, so the {load.kind} load of step {step.name} (line "
                     f"{load.loc.line}) puts no load on its elements", mat.loc, material=mat.name,
                     severity="warning", data={"need": "body_load", "step": step.name, "line": load.loc.line,
-                                              "point_masses": 0})
+                                              "other_mass_sources": 0})
 
 
 def _simple_need(model, ctx, need: str, kind: str, column: str, words: str, skip=None):
