@@ -664,3 +664,19 @@ def test_sniff_reads_utf16_and_bom_heads():
     text = CUBE + "*MATERIAL, NAME=A\n"
     assert K.sniff(text.encode("utf-16")) >= 0.7
     assert K.sniff(b"\xef\xbb\xbf" + text.encode()) >= 0.7
+
+
+def test_included_data_lines_continue_the_card_before_the_include(write_deck):
+    # ccx 2.20 run: "*NODE" followed by "*INCLUDE, INPUT=nodes" (a file of node lines only) reads those nodes
+    write_deck("nodes.txt", "1,0,0,0\n2,1,0,0\n** c\n3,0,2,0\n")
+    write_deck("els.txt", "1,1,2\n2,2,3\n")
+    write_deck("rows.txt", "180000., 0.3, 400.\n")
+    m = parse(write_deck("t.inp", "*NODE\n*INCLUDE, INPUT=nodes.txt\n*ELEMENT, TYPE=T3D2, ELSET=E\n"
+                         "*INCLUDE, INPUT=els.txt\n*ELSET, ELSET=E\n*MATERIAL, NAME=A\n*ELASTIC\n210000., 0.3, 20.\n"
+                         "*INCLUDE, INPUT=rows.txt\n"))
+    assert m.geometry.node_count == 3 and m.geometry.bbox_max.tolist() == [1, 2, 0]
+    assert sum(b.count for b in m.element_blocks) == 2
+    blk = m.materials["A"].first("elastic")
+    assert len(m.materials["A"].blocks) == 1 and blk.temperatures().tolist() == [20.0, 400.0]
+    assert blk.rows[1].loc.path.endswith("rows.txt") and blk.rows[1].loc.line == 1
+    assert "data-without-keyword" not in codes(m) and "duplicate-set" not in codes(m)

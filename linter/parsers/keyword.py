@@ -17,7 +17,7 @@ from typing import Optional
 
 from ..includes import IncludeTracker
 from ..model import DeckModel, Include, Loc, Material, Procedure, Unchecked, norm_key
-from ..sources import SourceError, read_deck_bytes, text
+from ..sources import SourceError, read_deck_bytes
 from . import keyword_cards as cards
 from . import keyword_mesh as mesh
 from .keyword_lex import KeywordLine, Reader, parse_keyword_line
@@ -131,6 +131,7 @@ class _Parser:
         self.catalogue = _load_catalogue()
         self.material: Optional[Material] = None
         self.step = None
+        self.last_kw: Optional[KeywordLine] = None
         self.unknown: dict[str, list] = {}
         self.elsets_by_card: set[str] = set()
         self.model.extras["encoding"] = {}
@@ -180,7 +181,12 @@ class _Parser:
             skipped.append(n_skip)
         first = kws[0][0] if kws else len(data)
         pre = next(rd.lines(0, first, 1), None)
-        if pre is not None:
+        if pre is not None and self.last_kw is not None and len(self.tracker.stack) > 1:
+            # an included file that starts with data lines continues the card before the *INCLUDE
+            # (ccx 2.20 run: *NODE followed by *INCLUDE of a file of node lines reads those nodes)
+            n_pre = data.count(b"\n", 0, first) - (skipped[1] if kws else n_skip)
+            self.keyword(rd, self.last_kw, 0, first, 1, max(0, n_pre), continuation=True)
+        elif pre is not None:
             rd.issue("data-without-keyword", "data line(s) before the first keyword are ignored", pre.loc.line)
         if not kws and pre is None:
             rd.issue("empty-file", "the file holds no keyword and no data (empty or comments only)", 1)
@@ -199,10 +205,18 @@ class _Parser:
 
     # -- dispatch ---------------------------------------------------------------------
 
-    def keyword(self, rd: Reader, kw: KeywordLine, start: int, end: int, first_line: int, nlines: int) -> None:
-        """Handle one keyword; its data is ``data[start:end]`` (``nlines`` data lines, from ``first_line``)."""
+    def keyword(self, rd: Reader, kw: KeywordLine, start: int, end: int, first_line: int, nlines: int,
+                continuation: bool = False) -> None:
+        """Handle one keyword; its data is ``data[start:end]`` (``nlines`` data lines, from ``first_line``).
+
+        ``continuation``: the data of ``kw`` goes on in an included file (``rd``)."""
         key = kw.key
         model = self.model
+        if key != "INCLUDE":
+            self.last_kw = kw
+        if continuation:
+            self.continue_card(rd, kw, start, end, first_line, nlines)
+            return
         if kw.continued:
             rd.issue("keyword-continuation", f"the keyword line {kw.written} ends with a comma; CalculiX does "
                      "not continue it and reads the next line as data", kw.loc.line)
@@ -266,6 +280,25 @@ class _Parser:
             else:
                 seen[1] += 1
 
+    def continue_card(self, rd: Reader, kw: KeywordLine, start: int, end: int, first_line: int,
+                      nlines: int) -> None:
+        key = kw.key
+        if key in MATERIAL_CARDS and self.material is not None:
+            mat = self.material
+            n_before, n_unchecked = len(mat.blocks), len(self.model.unchecked)
+            read_material_card(rd, kw, start, end, first_line, mat, self.model)
+            if len(mat.blocks) > n_before and n_before and mat.blocks[n_before - 1].loc == kw.loc:
+                more = mat.blocks.pop()                 # the same card: its rows go on
+                mat.blocks[-1].rows.extend(more.rows)
+                del self.model.unchecked[n_unchecked:]
+            return
+        if key == "ELSET" and kw.get("ELSET"):
+            self.elsets_by_card.discard(norm_key(kw.get("ELSET")))
+        saved = kw.continued
+        kw.continued = False
+        self.keyword(rd, kw, start, end, first_line, nlines)
+        kw.continued = saved
+
     def open_material(self, rd: Reader, kw: KeywordLine) -> None:
         name = kw.get("NAME")
         if not name:
@@ -322,4 +355,4 @@ def parse(path: str, options) -> DeckModel:
     return p.finish()
 
 
-__all__ = ["FORMAT", "EXTENSIONS", "DEFAULT_DIALECT", "sniff", "parse", "includes_of", "text"]
+__all__ = ["FORMAT", "EXTENSIONS", "DEFAULT_DIALECT", "sniff", "parse", "includes_of"]

@@ -4,7 +4,7 @@ from __future__ import annotations
 import math
 from typing import Optional
 
-from ..model import Load, MassSource, MaterialRef, Orientation, Procedure, Section, Step, norm_key
+from ..model import Load, MassSource, MaterialRef, Orientation, Section, Step, norm_key
 from .keyword_lex import KeywordLine, Reader, is_int
 
 SECTION_CARDS = {"SOLIDSECTION": ("solid", "solid"), "SHELLSECTION": ("shell", "shell"),
@@ -103,6 +103,8 @@ def read_orientation(rd: Reader, kw: KeywordLine, start: int, end: int, first_li
             v = rd.real(f, line, "orientation value", empty_is_issue=False)
             if v is not None:
                 vals.append(v)
+    if not vals:
+        rd.issue("malformed-data", "*ORIENTATION has no data line (the six coordinates are required)", kw.loc.line)
     model.orientations[norm_key(name)] = Orientation(name=name.strip(), key=norm_key(name), loc=kw.loc,
                                                      system=kw.upper("SYSTEM", "RECTANGULAR"), values=tuple(vals))
 

@@ -6,8 +6,6 @@ Nothing here makes one Python object per node or element: counts come from
 from __future__ import annotations
 
 import re
-from typing import Optional
-
 import numpy as np
 
 from ..model import ElementBlock, ElementSet, Lazy, Loc, norm_key
