@@ -87,7 +87,8 @@ def materials_on(model: DeckModel, target: Optional[str]) -> set:
     out = set()
     for key, uses in usage.items():
         for u in uses:
-            if norm_key(u.section.elset) == norm_key(target) or (blocks and blocks & (_blocks_of(model, u.section.elset) or set())):
+            same = norm_key(u.section.elset) == norm_key(target)
+            if same or (blocks and blocks & (_blocks_of(model, u.section.elset) or set())):
                 out.add(key)
     return out
 
@@ -121,7 +122,8 @@ def _step_words(step, proc) -> str:
       rationale="Frequency, dynamic and transient heat-transfer analyses need mass (density); gravity and "
                 "centrifugal loads need it to load the structure. Without it the solver stops, or the "
                 "material's elements carry no mass or load.",
-      references=(CCX_MAT, NAS_SOL), data="need (mass|transient_thermal|body_load), step, line, other_mass_sources (count of mass sources not on these elements)")
+      references=(CCX_MAT, NAS_SOL), data="need (mass|transient_thermal|body_load), step, line, "
+           "other_mass_sources (count of mass sources not on these elements)")
 def missing_density(model, ctx):
     reported = set()
     for need in ("mass", "transient_thermal"):

@@ -22,7 +22,8 @@ def test_time_step_check_values(E, nu, rho, c0, cd, dt):
 def test_speed_ratios_and_hyperelastic_form():
     # c_d/c0 = sqrt((1-nu)/((1+nu)(1-2nu))): 1.16 at 0.3, 4.14 at 0.49, 18.3 at 0.4995 (physics.md 6.3)
     for nu, ratio in ((0.3, 1.16), (0.49, 4.14), (0.4995, 18.3)):
-        assert D.dilatational_speed(1.0, nu, 1.0) / D.bar_speed(1.0, 1.0) == pytest.approx(ratio, abs=0.05)  # quoted to 3 digits
+        # quoted to 3 digits there
+        assert D.dilatational_speed(1.0, nu, 1.0) / D.bar_speed(1.0, 1.0) == pytest.approx(ratio, abs=0.05)
     # the hyperelastic form equals the elastic one for K0 = K, mu0 = G (physics.md 6.3)
     E, nu, rho = 12.0, 0.4995, 1.2e-9
     G, K = E / (2 * (1 + nu)), E / (3 * (1 - 2 * nu))
