@@ -82,7 +82,7 @@ def diagnose_material(inf: Inference, ms: MaterialScore) -> list[Problem]:
     found = _split(inf, ms, loose_moduli=not anchored)
     if found is not None:
         return [found]
-    return _implausible(inf, ms, int(ms.best_class[ref]), ref, force=True)
+    return _implausible(inf, ms, int(ms.best_class[ref]), ref)
 
 
 def _split(inf: Inference, ms: MaterialScore, loose_moduli: bool = False) -> Optional[Problem]:
@@ -144,7 +144,7 @@ def _split(inf: Inference, ms: MaterialScore, loose_moduli: bool = False) -> Opt
                     "class": data.class_names[c], "write": {q: _write(ev, q, alt, ref, data) for q in qs}})
 
 
-def _implausible(inf: Inference, ms: MaterialScore, c: int, ref: int, force: bool = False) -> list[Problem]:
+def _implausible(inf: Inference, ms: MaterialScore, c: int, ref: int) -> list[Problem]:
     data, ev = inf.data, ms.ev
     qtol = float(data.scoring["quantity_tol"])
     si = si_values(ev, data)
@@ -176,10 +176,6 @@ def _implausible(inf: Inference, ms: MaterialScore, c: int, ref: int, force: boo
         out.append(Problem("implausible", sev, msg, ev.locs.get(parts[0], ev.loc), ev.name,
                            {"quantity": q, "value_si": x, "band": [lo, hi], "class": cls,
                             "system": data.systems[ref].name, "decades": d}))
-    if force and not out:
-        out.append(Problem("implausible", "warning",
-                           f"material {ev.name}: no unit system and material class explains its values together",
-                           ev.loc, ev.name, {"system": data.systems[ref].name}))
     return out
 
 

@@ -125,7 +125,7 @@ def quantity_terms(ev: MaterialEvidence, si: dict[str, np.ndarray], data: UnitDa
     for q, x in allq.items():
         lo, hi = data.lo[q][:, None], data.hi[q][:, None]
         if q == "nu":
-            d = U.linear_outside(x[None, :], lo, hi, float(sc["nu_step"]))
+            d = np.minimum(U.linear_outside(x[None, :], lo, hi, float(sc["nu_step"])), float(sc["nu_cap"]))
         else:
             d = U.decades_outside(x[None, :], lo, hi)
         nob = np.isnan(lo) & np.ones_like(d, dtype=bool)
