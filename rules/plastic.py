@@ -50,16 +50,45 @@ def plastic_blocks(model):
                 continue
             if str(blk.options.get("HARDENING", "")).upper() not in TABLE_FORMS:
                 continue
+            if str(blk.options.get("TYPE", "PLASTIC")).upper() == "NLELAST":
+                continue  # MATS1 nonlinear elastic: a stress-strain curve, not a hardening table
             yield mat, blk
 
 
+def _number(v):
+    try:
+        x = float(v)
+    except (TypeError, ValueError):
+        return None
+    return x if math.isfinite(x) else None
+
+
+def slope_only(block):
+    """(initial yield LIMIT1, slope H) of a bulk MATS1 given by its slope instead of a table, else None."""
+    if block.rows:
+        return None
+    h, y = _number(block.options.get("H")), _number(block.options.get("LIMIT1"))
+    return None if h is None and y is None else (y, h)
+
+
 def curves(block):
-    """(temperature or None, row indices, stress, strain) for every temperature group."""
+    """(temperature or None, row indices, stress, strain) for every temperature group.
+
+    A bulk MATS1 given by LIMIT1 and H (no table) is the one-point curve (LIMIT1, 0)."""
+    only = slope_only(block)
+    if only is not None:
+        if only[0] is not None:
+            yield None, np.array([-1]), np.array([only[0]]), np.array([0.0])
+        return
     stress, strain = block.column("stress"), block.column("plastic_strain")
     temps = block.temperatures()
     for idx in P.temperature_groups(temps):
         t = temps[idx[0]]
         yield (None if math.isnan(t) else float(t)), idx, stress[idx], strain[idx]
+
+
+def row_loc(block, i: int):
+    return block.loc if i < 0 else block.rows[i].loc
 
 
 def elastic_modulus(mat, temperature=None):
@@ -102,6 +131,8 @@ def first_strain_not_zero(model, ctx):
     for mat, blk in plastic_blocks(model):
         total = strain_is_total(blk)
         for t, idx, s, e in curves(blk):
+            if idx[0] < 0:
+                continue  # MATS1 given by LIMIT1 and H: no table
             bad = e[0] != 0 or (total and s[0] != 0)
             if not bad:
                 continue
@@ -148,7 +179,7 @@ def softening(model, ctx):
         for t, idx, s, e in curves(blk):
             bad = P.softening(s)
             if not bad.size:
-                continue
+                continue  # (a MATS1 with a negative H is reported below)
             slopes = P.hardening_slopes(s, e)
             pts = [{"line": blk.rows[idx[k]].loc.line, "stress": float(s[k]), "previous": float(s[k - 1]),
                     "slope": float(slopes[k - 1])} for k in bad]
@@ -157,6 +188,11 @@ def softening(model, ctx):
                 f"{_where(mat, t)}: the stress falls: {text}. An engineering stress-strain curve past its "
                 "maximum looks like this; use true stress against true plastic strain up to necking",
                 blk.rows[idx[bad[0]]].loc, material=mat.name, data={"temperature": t, "points": pts})
+        only = slope_only(blk)
+        if only is not None and only[1] is not None and only[1] < 0:
+            yield ctx.finding(f"material {mat.name}: MATS1 hardening slope H = {_fmt(only[1])} is negative "
+                              "(softening)", blk.loc, material=mat.name,
+                              data={"temperature": None, "points": [], "H": only[1]})
 
 
 @rule("plastic/total-strain-given", severity="warning",
@@ -171,8 +207,8 @@ def total_strain_given(model, ctx):
         if strain_is_total(blk):
             continue
         for t, idx, s, e in curves(blk):
-            if not (s > 0).any():
-                continue  # no hardening curve at all (zero yield, e.g. creep only): plastic/zero-yield tells
+            if idx[0] < 0 or not (s > 0).any():
+                continue  # no table (MATS1 by slope), or no hardening curve at all (zero yield, e.g. creep only): plastic/zero-yield tells
             E = elastic_modulus(mat, t)
             head = slice(0, min(2, len(idx)))
             hit = None
@@ -217,13 +253,13 @@ def zero_yield(model, ctx):
             y, k = initial_yield(blk, s, e)
             if y > 0 or math.isnan(y):
                 continue
-            row = blk.rows[idx[k]]
+            loc = row_loc(blk, int(idx[k]))
             extra = ("; with *CREEP this is the usual way to model creep without a yield surface"
                      if creep and y == 0 else "")
-            yield ctx.finding(f"{_where(mat, t)}: the initial yield stress is {_fmt(y)} on line {row.loc.line}"
-                              f"{extra}", row.loc, material=mat.name,
+            yield ctx.finding(f"{_where(mat, t)}: the initial yield stress is {_fmt(y)} on line {loc.line}"
+                              f"{extra}", loc, material=mat.name,
                               severity="warning" if creep and y == 0 else None,
-                              data={"temperature": t, "line": row.loc.line, "yield_stress": y, "with_creep": creep},
+                              data={"temperature": t, "line": loc.line, "yield_stress": y, "with_creep": creep},
                               defect=("plastic-yield", mat.key, blk.loc.line, t))
 
 
@@ -247,14 +283,14 @@ def yield_vs_modulus(model, ctx):
             ratio = y / E
             if band[0] <= ratio <= band[1]:
                 continue
-            row = blk.rows[idx[k]]
+            loc = row_loc(blk, int(idx[k]))
             judged = {"metal": "a metal", "polymer": "a polymer"}.get(cls, "a metal or polymer (class not clear)")
             hint = (" (a yield stress in Pa with E in MPa, or similar unit mix-up?)" if ratio > 1
                     else " (the yield stress in MPa with E in Pa, or similar?)" if ratio < band[0] / 100 else "")
             yield ctx.finding(
                 f"{_where(mat, t)}: initial yield strain sigma_y/E = {_fmt(y)}/{_fmt(E)} = {_fmt(ratio)} is outside "
                 f"{_fmt(band[0])}..{_fmt(band[1])} expected for {judged}{hint}",
-                row.loc, material=mat.name,
-                data={"temperature": t, "line": row.loc.line, "yield_stress": y, "E": E, "yield_strain": ratio,
+                loc, material=mat.name,
+                data={"temperature": t, "line": loc.line, "yield_stress": y, "E": E, "yield_strain": ratio,
                       "material_class": cls, "band": list(band)},
                 restates=(("plastic-yield", mat.key, blk.loc.line, t),))

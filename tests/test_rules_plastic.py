@@ -175,3 +175,18 @@ def test_corpus_decks_have_no_plastic_errors(corpus_dir):
     found = [f for f in check_paths([str(p) for p in decks]).findings if f.rule.startswith("plastic/")]
     assert [f for f in found if f.severity == "error"] == []
     assert any(f.rule == "plastic/zero-yield" and f.data["with_creep"] for f in found)
+
+
+def test_bulk_mats1_given_by_slope():
+    # formats.md 5.3: MATS1 with H (work-hardening slope) and LIMIT1 (initial yield stress) and no table
+    base = {"card": "MATS1", "TYPE": "PLASTIC"}
+    clean = _deck([], fmt="bulk", options={**base, "H": 1000.0, "LIMIT1": 250.0})
+    assert clean.run(*PLASTIC_RULES) == []
+    soft = _deck([], fmt="bulk", options={**base, "H": -500.0, "LIMIT1": 250.0}).run(*PLASTIC_RULES)
+    assert [f.rule for f in soft] == ["plastic/softening"] and soft[0].data["H"] == -500.0
+    zero = _deck([], fmt="bulk", options={**base, "H": 1000.0, "LIMIT1": 0.0}).run(*PLASTIC_RULES)
+    assert [f.rule for f in zero] == ["plastic/zero-yield"]
+    pa = _deck([], fmt="bulk", options={**base, "H": 1000.0, "LIMIT1": 2.5e8}).run(*PLASTIC_RULES)
+    assert [f.rule for f in pa] == ["plastic/yield-vs-modulus"]
+    nlelast = _deck([(0, 0), (100, 0.001)], fmt="bulk", options={**base, "TYPE": "NLELAST"})
+    assert nlelast.run(*PLASTIC_RULES) == []
