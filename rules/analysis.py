@@ -121,11 +121,17 @@ def _step_words(step, proc) -> str:
       title="The analysis needs a density the material does not have",
       rationale="Frequency, dynamic and transient heat-transfer analyses need mass (density); gravity and "
                 "centrifugal loads need it to load the structure. Without it the solver stops, or the "
-                "material's elements carry no mass or load.",
+                "material's elements carry no mass or load. A body load on a material without density is a "
+                "warning, and an error where CalculiX stops because no material has a density.",
       references=(CCX_MAT, NAS_SOL), data="need (mass|transient_thermal|body_load), step, line, "
            "other_mass_sources (count of mass sources not on these elements)")
 def missing_density(model, ctx):
     reported = set()
+    # CalculiX 2.20 (checked with ccx): a warning per material without density, and a stop ("no density
+    # was assigned to any material") when none has one, for dynamics and for gravity/centrifugal loads alike
+    none_has = not any(has_positive(m, "density", "rho") for m in used_materials(model))
+    ccx_stop = (" (CalculiX stops: no material of the model has a density)"
+                if none_has and model.dialect == "calculix" else "")
     for need in ("mass", "transient_thermal"):
         for step, proc in _steps_needing(model, need):
             for mat in used_materials(model):
@@ -143,7 +149,7 @@ def missing_density(model, ctx):
                              "mass) not on these elements, so it runs, but this material's elements carry no mass")
                 yield ctx.finding(
                     f"material {mat.name} has no density, but {_step_words(step, proc)} needs {what} "
-                    f"({element_count(model, mat.key)} element(s) use it){extra}",
+                    f"({element_count(model, mat.key)} element(s) use it){extra}{ccx_stop if not others else ''}",
                     mat.loc, material=mat.name, severity=sev,
                     data={"need": need, "step": step.name, "line": proc.loc.line,
                           "other_mass_sources": len(others)})
@@ -159,8 +165,8 @@ def missing_density(model, ctx):
                 reported.add(mat.key)
                 yield ctx.finding(
                     f"material {mat.name} has no density, so the {load.kind} load of step {step.name} (line "
-                    f"{load.loc.line}) puts no load on its elements", mat.loc, material=mat.name,
-                    severity="warning", data={"need": "body_load", "step": step.name, "line": load.loc.line,
+                    f"{load.loc.line}) puts no load on its elements{ccx_stop}", mat.loc, material=mat.name,
+                    severity="error" if ccx_stop else "warning", data={"need": "body_load", "step": step.name, "line": load.loc.line,
                                               "other_mass_sources": 0})
 
 

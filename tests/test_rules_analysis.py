@@ -58,7 +58,17 @@ def test_static_steps_do_not_need_density_but_gravity_warns():
     g = _deck(elastic=[(210000.0, 0.3)])
     _step(g, "static", loads=[_load("gravity", 9810.0, target="PART")])
     found = g.run("analysis/missing-density")
+    # ccx 2.20 run here: "no density was assigned to any material ... gravitational loads" is an *ERROR
+    assert len(found) == 1 and found[0].severity == "error" and "CalculiX stops" in found[0].message
+    # another material with a density: CalculiX only warns for this one
+    g.material("OTHER", elastic=[(70000.0, 0.33)], density=[(2.7e-9,)])
+    g.elements("C3D8", 2, elset="P2")
+    g.section("solid", "P2", "OTHER")
+    found = g.run("analysis/missing-density")
     assert len(found) == 1 and found[0].severity == "warning" and "gravity" in found[0].message
+    bulk = _deck("bulk", elset="PID 1", elastic=[(210000.0, 0.3)])
+    _step(bulk, "static", loads=[_load("gravity", 9810.0)], card="SOL 101")
+    assert [f.severity for f in bulk.run("analysis/missing-density")] == ["warning"]
     # a centrifugal load on another set does not touch this material
     other = _deck(elastic=[(210000.0, 0.3)])
     other.elset("ELSEWHERE")
