@@ -1,6 +1,7 @@
 """Wave speeds, stable time step and the smallest element edge."""
 import numpy as np
 import pytest
+from hypothesis import given, settings, strategies as st
 
 from linter.physics import dynamics as D
 from linter.physics import mesh as M
@@ -77,3 +78,16 @@ def test_smallest_edge_tetra_quadratic_and_missing_nodes():
     assert M.min_edge_lengths(np.array([[1, 2, 3]]), ids, c4, "XYZ3")[0] == pytest.approx(1.0)
     # 2-D coordinates are accepted
     assert M.min_edge_lengths(np.array([[1, 2, 3]]), ids, c4[:, :2], "CPS3")[0] == pytest.approx(1.0)
+
+
+
+@settings(max_examples=40, deadline=None)
+@given(angle=st.floats(0, 6.283), shift=st.floats(-1e3, 1e3), scale=st.floats(0.01, 100))
+def test_smallest_edge_is_invariant_under_rigid_motion(angle, shift, scale):
+    # a rotated, shifted and scaled brick keeps its smallest edge times the scale (geometry, common practice)
+    c, s = np.cos(angle), np.sin(angle)
+    rot = np.array([[c, -s, 0], [s, c, 0], [0, 0, 1.0]])
+    coords = (_brick(2, 3, 4) * scale) @ rot.T + shift
+    ids = np.arange(1, 9)
+    got = M.smallest_edge(ids[None, :], ids, coords, "C3D8")
+    assert got == pytest.approx(2.0 * scale, rel=1e-9)

@@ -1,6 +1,7 @@
 """Hardening-table physics: conversions, tangent/plastic modulus, groups, checks, material class."""
 import numpy as np
 import pytest
+from hypothesis import given, settings, strategies as st
 
 from linter.physics import plastic as P
 
@@ -68,3 +69,23 @@ def test_material_class_from_modulus_and_density():
     assert P.material_class(3000.0, 1.13e-9) == "polymer"      # PA66, mm-t-s
     assert P.material_class(210000.0) == "unknown"             # E alone fits several systems
     assert P.material_class(-1.0, 7850.0) == "unknown"
+
+
+
+@settings(max_examples=60, deadline=None)
+@given(E=st.floats(1.0, 1e12), frac=st.floats(1e-6, 0.999))
+def test_tangent_plastic_round_trip(E, frac):
+    # E_t = E H/(E + H) and H = E E_t/(E - E_t) are inverse (physics.md 4)
+    Et = frac * E
+    H = P.plastic_from_tangent(E, Et)
+    assert H > 0
+    assert P.tangent_from_plastic(E, H) == pytest.approx(Et, rel=1e-6)
+
+
+@settings(max_examples=60, deadline=None)
+@given(s=st.floats(1.0, 1e4), e=st.floats(0.0, 0.5), E=st.floats(1e3, 1e6))
+def test_true_values_exceed_engineering_in_tension(s, e, E):
+    # in tension sigma_t >= sigma_e and eps_t <= eps_e (standard; physics.md 4 formulas)
+    st_, et = P.eng_to_true(s, e)
+    assert st_ >= s and et <= e + 1e-15
+    assert P.plastic_from_total(et, st_, E) == pytest.approx(et - st_ / E)
