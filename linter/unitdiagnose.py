@@ -2,6 +2,8 @@
 material, or which gravity value, does not fit it, and in which system it would make sense.
 
 A material that the reference system does not explain (misfit above ``material_tol``) is, in order:
+0. explained once its density, which fits no class as written, is divided by g -> mismatch (a weight
+   density, the bulk-deck RHO without PARAM,WTMASS; physics.md 1.5, 5.4);
 1. explained as a whole by another system -> mismatch ("material pasted in Pa");
 2. explained after reading one or more quantity groups (moduli, yield, density, conductivity,
    specific heat, expansion) in another system, the rest staying in the reference -> mismatch naming
@@ -13,7 +15,7 @@ gives a note.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Optional
 
 import numpy as np
@@ -62,6 +64,9 @@ def diagnose_material(inf: Inference, ms: MaterialScore) -> list[Problem]:
     if ms.misfit[ref] <= tol:
         return _implausible(inf, ms, int(ms.best_class[ref]), ref)
     refname = data.systems[ref].name
+    weight = _weight_density(inf, ms)
+    if weight is not None:
+        return [weight]
     alts = [s for s in range(len(data.systems))
             if ms.misfit[s] <= tol and not equivalent(data, s, ref, ms.dims)]
     if alts:
@@ -172,6 +177,8 @@ def _implausible(inf: Inference, ms: MaterialScore, c: int, ref: int) -> list[Pr
                f"{SI_UNIT[q]} for a {cls} in {data.systems[ref].name}")
         if q in ev.how and ev.how[q] not in (q, WORDS[q], "density"):
             msg += f" ({WORDS[q]} taken as {ev.how[q]})"
+        if q == "rho":
+            msg += _weight_density_hint(inf, ev, ref, c)
         sev = "warning" if _sev(ev, parts) == "error" else "note"
         out.append(Problem("implausible", sev, msg, ev.locs.get(parts[0], ev.loc), ev.name,
                            {"quantity": q, "value_si": x, "band": [lo, hi], "class": cls,
@@ -212,3 +219,34 @@ def diagnose(inf: Inference) -> list[Problem]:
         out.extend(diagnose_material(inf, ms))
     out.extend(diagnose_gravity(inf))
     return out
+
+
+def _weight_density(inf: Inference, ms: MaterialScore) -> Optional[Problem]:
+    """The material fits the reference once its density is divided by g: RHO is a weight density."""
+    data, ref, ev = inf.data, inf.ref, ms.ev
+    if "rho" not in ev.values or not _slip_bad(ev, data)["rho"][ref]:
+        return None      # only a density that fits no class as written
+    g = float(data.model["gravity"]) / data.systems[ref].scale("acceleration")
+    trial = replace(ev, values={**ev.values, "rho": ev.values["rho"] / g})
+    pc = class_misfit(trial, data)[:, ref]
+    c = int(np.argmin(pc))
+    if pc[c] > float(data.scoring["material_tol"]):
+        return None
+    mass = ev.values["rho"] / g
+    msg = (f"material {ev.name}: density {ev.values['rho']:.4g} fits as a weight density (force per volume), "
+           f"not a mass density, in {data.systems[ref].name}: the mass density is {mass:.4g} (divided by "
+           f"g = {g:.6g}); bulk decks: PARAM,WTMASS,{1 / g:.6g} converts RHO")
+    return Problem("mismatch", _sev(ev, ["rho"]), msg, ev.locs.get("rho", ev.loc), ev.name,
+                   {"quantities": ["rho"], "fits": "weight density", "model": data.systems[ref].name,
+                    "class": data.class_names[c], "write": {"rho": mass}, "wtmass": 1 / g})
+
+
+def _weight_density_hint(inf: Inference, ev, ref: int, c: int) -> str:
+    """A density that fits once divided by g is a weight density (bulk decks: PARAM,WTMASS = 1/g)."""
+    data = inf.data
+    g = float(data.model["gravity"]) / data.systems[ref].scale("acceleration")
+    mass = ev.values["rho"] / g * data.systems[ref].scale("density")
+    if float(U.decades_outside(mass, data.lo["rho"][c], data.hi["rho"][c])) > 0:
+        return ""
+    return (f"; it fits as a weight density: the mass density is {ev.values['rho'] / g:.4g} "
+            f"(divide by g = {g:.6g}; bulk decks: PARAM,WTMASS,{1 / g:.6g})")

@@ -237,3 +237,15 @@ def test_hyperelastic_constants_in_pa_in_mpa_model():
     assert mm[0].data["fits"] == "m-kg-s" and "3 mu0" in mm[0].message
     assert "by 1e-06 and the D constants by 1e+06" in mm[0].message   # Pa -> MPa (SI prefixes)
     assert mm[0].data["write"]["E"] == pytest.approx(1.5)    # 3 mu0 = 3 * 2 (C10 + C01) = 1.5 MPa
+
+
+def test_weight_density_without_wtmass_is_named():
+    # steel in in-lbf-s: E 3.0458e7 psi (physics.md 5.2); RHO 0.2836 lbf/in^3 is the weight density
+    # (7850 kg/m^3 * 9.80665 m/s^2 in lbf/in^3, pint-checked in test_units_scales via the psi/density scales);
+    # without PARAM,WTMASS 1/386.09 (physics.md 1.5) the solver takes it as mass density
+    mats = [material("ST", E=3.0458e7, rho=0.2836), material("AL", E=1.0e7, nu=0.33, rho=2.591e-4, line=30)]
+    found = run(model(*mats, steps=("frequency",)))
+    mm = by_rule(found, "units/mismatch")
+    assert len(mm) == 1 and mm[0].material == "ST" and mm[0].data["quantities"] == ["rho"]
+    assert mm[0].data["fits"] == "weight density" and "WTMASS,0.00259" in mm[0].message
+    assert mm[0].data["write"]["rho"] == pytest.approx(7.3454e-4, rel=1e-3)   # physics.md 5.2, in-lbf-s row

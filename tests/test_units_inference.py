@@ -173,3 +173,34 @@ def test_identical_materials_scored_once_give_same_result():
     inf = infer(model_evidence(model(*mats, steps=("frequency",))))
     assert load_data().systems[inf.best].name == "mm-tonne-s"
     assert len(inf.materials) == 50
+
+
+def test_mesh_size_is_evidence():
+    import numpy as np
+
+    from linter.model import ElementBlock, Geometry, Loc
+
+    def with_box(size):
+        m = model(material("S", E=210000.0))
+        m.geometry = Geometry(node_count=8, bbox_min=np.zeros(3), bbox_max=np.full(3, size))
+        m.element_blocks.append(ElementBlock("C3D8", "C3D8", 1000, Loc("demo.inp", 5)))
+        return m
+
+    evd = model_evidence(with_box(100.0))
+    assert evd.model_size == pytest.approx(100.0 * 3 ** 0.5)
+    assert evd.element_size == pytest.approx(100.0 * 3 ** 0.5 / 10.0)
+    # a 1.7e6-unit part: 1.7 km in mm but 1700 km in m (model_size band of units.yaml, from memory)
+    inf_big = infer(model_evidence(with_box(1.0e6)))
+    data = load_data()
+    names = [s.name for s in data.systems]
+    assert inf_big.scores[names.index("m-kg-s")] > inf_big.scores[names.index("mm-tonne-s")] + 0.5
+    assert "length" in inf_big.dims
+
+
+def test_summary_reports_temperatures_and_absolute_zero():
+    m = model(material("S", E=210000.0, rho=7.85e-9), steps=("frequency",), params={"ABSOLUTE_ZERO": -273.15})
+    m.materials["S"].blocks[0].rows[0].temperature = 20.0
+    run(m)
+    us = m.derived["unit_system"]
+    assert us["absolute_zero"] == -273.15 and us["temperatures"] == [20.0, 20.0]
+    assert us["temperature_scale"] == "K/C"

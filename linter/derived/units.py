@@ -40,6 +40,10 @@ def summary(inf) -> dict:
         out["equivalent"] = [s.name for j, s in enumerate(data.systems)
                              if j != inf.best and _equiv(inf, j)]
     out["evidence"] = sorted(inf.dims)
+    if inf.evidence.temperatures:
+        out["temperatures"] = list(inf.evidence.temperatures)
+    if inf.evidence.absolute_zero is not None:
+        out["absolute_zero"] = inf.evidence.absolute_zero
     if inf.declared_unknown:
         out["declared_unknown"] = inf.declared_unknown
         out["known"] = [s.name for s in data.systems]
