@@ -198,6 +198,11 @@ def missing_specific_heat(model, ctx):
     yield from _simple_need(model, ctx, "transient_thermal", "specific_heat", "c", "specific heat", skip=fluid_only)
 
 
+def has_expansion(mat: Material) -> bool:
+    """Some nonzero expansion coefficient (a bulk MAT1 with A blank reads as 0: no expansion)."""
+    return any(v != 0 for blk in mat.find("expansion") for r in blk.rows for v in r.values)
+
+
 def initial_values(model) -> list[float]:
     return [ld.value for ld in model.initial_temperatures if ld.value is not None]
 
@@ -221,7 +226,7 @@ def missing_expansion(model, ctx):
         base = (f"initial temperature {min(init):.4g}" + (f"..{max(init):.4g}" if max(init) != min(init) else "")
                 if init else "no initial temperature (the solver's default)")
         for mat in used_materials(model):
-            if mat.has("expansion") or not structural_use(model, ctx, mat.key):
+            if has_expansion(mat) or not structural_use(model, ctx, mat.key):
                 continue
             yield ctx.finding(
                 f"material {mat.name} has no thermal expansion, but step {step.name} applies temperature "

@@ -152,6 +152,11 @@ def test_missing_expansion_when_the_temperature_changes():
     heat = _deck(**STEEL)
     _step(heat, "heat-steady", loads=[_load("temperature", 120.0)])
     assert heat.run("analysis/missing-expansion") == []
+    # bulk MAT1 with A blank reads as 0 (formats.md 5.1): no expansion
+    blank = _deck("bulk", elset="PID 1", expansion=[(0.0,)], **STEEL)
+    blank.model.initial_temperatures.append(_load("temperature", 20.0))
+    _step(blank, "static", loads=[_load("temperature", 120.0)], card="SOL 101")
+    assert len(blank.run("analysis/missing-expansion")) == 1
 
 
 def test_missing_elastic_and_its_restatement():
