@@ -7,7 +7,7 @@ import math
 import numpy as np
 
 from linter.registry import rule
-from linter.rules.analysis import initial_values, used_materials
+from linter.rules.analysis import has_expansion, initial_values, used_materials
 
 CCX_T = "CalculiX User's Manual *MATERIAL: outside the table the value is held constant (formats.md 2.1)"
 NAS_T = "Nastran TABLEM/TABLES1: linear extrapolation in some dialects (formats.md 5.3)"
@@ -122,7 +122,7 @@ def expansion_reference(model, ctx):
         return
     for mat in used_materials(model):
         blk = mat.first("expansion")
-        if blk is None or not defaulted_reference(model, blk):
+        if blk is None or not has_expansion(mat) or not defaulted_reference(model, blk):
             continue
         dependent = table_range(blk) is not None
         if model.format != "bulk" and not dependent:
