@@ -680,3 +680,20 @@ def test_included_data_lines_continue_the_card_before_the_include(write_deck):
     assert len(m.materials["A"].blocks) == 1 and blk.temperatures().tolist() == [20.0, 400.0]
     assert blk.rows[1].loc.path.endswith("rows.txt") and blk.rows[1].loc.line == 1
     assert "data-without-keyword" not in codes(m) and "duplicate-set" not in codes(m)
+
+
+@pytest.mark.parametrize("extra", ["", "** a comment\n", "\n", "trailing"])
+def test_large_blocks_parse_the_same_on_fast_and_careful_paths(deck, extra):
+    n = 3000                                        # > 4 KiB of data: the numpy fast path is tried first
+    lines = [f"{i}, {i}, {i + 1}" + ("," if extra == "trailing" and i % 7 == 0 else "") for i in range(1, n + 1)]
+    if extra in ("** a comment\n", "\n"):
+        lines.insert(n // 2, extra.rstrip("\n"))
+    nodes = "\n".join(f"{i}, {i}.5, -{i}.0D0, 0" for i in range(1, n + 2))
+    m = deck("*NODE\n" + nodes + "\n*ELEMENT, TYPE=T3D2\n" + "\n".join(lines) + "\n")
+    b = m.element_blocks[0]
+    assert b.count == n
+    assert b.ids.get().tolist() == list(range(1, n + 1))
+    assert b.conn.get()[-1].tolist() == [n, n + 1]
+    ids, xyz = m.geometry.nodes.get()
+    assert ids.size == n + 1 and xyz[-1].tolist() == [n + 1.5, -(n + 1.0), 0.0]
+    assert m.geometry.bbox_min.tolist() == [1.5, -(n + 1.0), 0.0]

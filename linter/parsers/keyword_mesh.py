@@ -21,7 +21,9 @@ MAX_INT_DIGITS = 10
 MAX_GENERATE = 50_000_000
 _COMMENT_LINE = re.compile(rb"(?m)^[ \t]*\*\*.*\n?")
 _BLANK_LINE = re.compile(rb"(?m)^[ \t,]*\n")
+_HAS_BLANK_LINE = re.compile(rb"(?:^|\n)[ \t,]*\n")
 _TRAILING = re.compile(rb",[ \t]*(?=\n)")
+_HAS_TRAILING = re.compile(rb",[ \t]*\n")
 
 
 def _clean(chunk: bytes) -> bytes:
@@ -30,15 +32,48 @@ def _clean(chunk: bytes) -> bytes:
         chunk = _COMMENT_LINE.sub(b"", chunk)
     if not chunk.endswith(b"\n"):
         chunk += b"\n"
-    chunk = _BLANK_LINE.sub(b"", chunk)
-    if b",\n" in chunk or b", \n" in chunk or b",\t" in chunk:
+    if _HAS_BLANK_LINE.search(chunk):           # the searches are fast scans; the substitutions are not
+        chunk = _BLANK_LINE.sub(b"", chunk)
+    if _HAS_TRAILING.search(chunk):
         chunk = _TRAILING.sub(b"", chunk)
     return chunk
 
 
-def numbers(chunk: bytes) -> np.ndarray:
-    """All comma/line separated numbers of a cleaned chunk as float64 (nan where a field is not a number)."""
-    chunk = _clean(chunk)
+def _fast(chunk: bytes, dtype) -> "np.ndarray | None":
+    """The numbers of a chunk with no comment, blank line or trailing comma (None when it has any)."""
+    if b"*" in chunk or len(chunk) < 4096:
+        return None
+    flat = chunk.rstrip(b"\n").replace(b"\n", b",")
+    if dtype is float and (b"d" in flat or b"D" in flat):
+        return None
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        try:
+            arr = np.fromstring(flat, dtype=dtype, sep=",")
+        except ValueError:
+            return None
+    return arr if arr.size == flat.count(b",") + 1 else None
+
+
+def integers(chunk: bytes) -> np.ndarray:
+    """All comma/line separated integers of a chunk (int64; a field that is not an integer reads as 0)."""
+    arr = _fast(chunk, np.int64)
+    if arr is None:
+        arr = _fast(_clean(chunk), np.int64)
+    if arr is None:
+        arr = np.nan_to_num(numbers(chunk)).astype(np.int64)
+    return arr
+
+
+def numbers(chunk: bytes, cleaned: bool = False) -> np.ndarray:
+    """All comma/line separated numbers of a chunk as float64 (nan where a field is not a number)."""
+    arr = _fast(chunk, float)
+    if arr is not None:
+        return arr
+    if not cleaned:
+        chunk = _clean(chunk)
     if not chunk.strip():
         return np.zeros(0)
     if b"d" in chunk or b"D" in chunk:
@@ -76,21 +111,20 @@ def _ints(data: bytes, start: int, end: int, width: int, per_line: bool) -> np.n
     """(elements, width) int64 table: id and nodes. ``per_line``: one element per data line, as ccx reads
     types of up to 15 nodes (fields after the last node are not read)."""
     width = max(width, 1)
-    arr = numbers(data[start:end])
+    chunk = data[start:end]
+    arr = integers(chunk)
     lines = None
-    if per_line and arr.size % width == 0:
-        chunk = _clean(data[start:end])
-        if chunk.count(b"\n") * width != arr.size:
-            lines = chunk
-    elif per_line:
-        lines = _clean(data[start:end])
+    if per_line:
+        n_lines = chunk.count(b"\n") + (0 if chunk.endswith(b"\n") else 1)
+        if n_lines * width != arr.size:
+            lines = _clean(chunk)
+            lines = lines if lines.count(b"\n") * width != arr.size else None
     if lines is not None:                     # ragged lines: the first ``width`` fields of each
         rows = [numbers(line) for line in lines.split(b"\n") if line.strip()]
         tab = np.zeros((len(rows), width))
         for i, r in enumerate(rows):
             tab[i, : min(width, r.size)] = r[:width]
-        arr = tab
-    arr = np.nan_to_num(np.asarray(arr, dtype=float)).astype(np.int64).ravel()
+        arr = np.nan_to_num(tab).astype(np.int64).ravel()
     arr = arr[: arr.size - arr.size % width]
     return arr.reshape(-1, width)
 
@@ -236,16 +270,18 @@ def read_node(rd: Reader, kw: KeywordLine, start: int, end: int, model, nlines: 
 
 def _node_table(chunk: bytes) -> np.ndarray:
     """(n, 4) array id, x, y, z (missing coordinates are 0, as ccx reads them)."""
-    chunk = _clean(chunk)
-    first = chunk.split(b"\n", 1)[0]
-    width = first.count(b",") + 1
-    arr = numbers(chunk)
-    if width >= 2 and arr.size % width == 0 and (chunk.count(b",") + chunk.count(b"\n")) == arr.size:
+    arr = _fast(chunk, float)                      # succeeds only on a chunk that needs no cleaning
+    if arr is None:
+        chunk = _clean(chunk)
+        arr = numbers(chunk, cleaned=True)
+    nl = chunk.find(b"\n")
+    width = chunk[: nl if nl >= 0 else len(chunk)].count(b",") + 1
+    n_lines = chunk.count(b"\n") + (0 if chunk.endswith(b"\n") or not chunk else 1)
+    if width >= 2 and arr.size == n_lines * width:
         tab = arr.reshape(-1, width)
     else:                                            # ragged lines
         rows = [numbers(line) for line in chunk.split(b"\n") if line.strip()]
-        w = max(len(r) for r in rows)
-        tab = np.zeros((len(rows), w))
+        tab = np.zeros((len(rows), max((len(r) for r in rows), default=1)))
         for i, r in enumerate(rows):
             tab[i, : len(r)] = r
     out = np.zeros((tab.shape[0], 4))
