@@ -697,3 +697,10 @@ def test_large_blocks_parse_the_same_on_fast_and_careful_paths(deck, extra):
     ids, xyz = m.geometry.nodes.get()
     assert ids.size == n + 1 and xyz[-1].tolist() == [n + 1.5, -(n + 1.0), 0.0]
     assert m.geometry.bbox_min.tolist() == [1.5, -(n + 1.0), 0.0]
+
+
+def test_gravity_direction_is_normalised(deck):
+    # ccx 2.20 run: *DLOAD GRAV with direction (0,0,-2) gives the same displacements as (0,0,-1)
+    m = deck("*STEP\n*STATIC\n*DLOAD\nEALL, GRAV, 9810., 0., 0., -2.\n*END STEP\n")
+    g = m.steps[0].loads[0]
+    assert g.value == 9810.0 and g.vector == (0.0, 0.0, -1.0)

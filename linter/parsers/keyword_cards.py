@@ -139,9 +139,13 @@ def read_dload(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: in
                 continue
             target = _target(f[0]) if f[0] else None
             if typ == "GRAV":
+                # ccx 2.20 run: the direction is normalised (0,0,-2 gives the same result as 0,0,-1),
+                # so the magnitude is the acceleration as written
                 vec = tuple(nums[1:4])
                 norm = math.sqrt(sum(v * v for v in vec)) if vec else 0.0
-                step.loads.append(Load("gravity", nums[0] * (norm if norm else 1.0), line.loc, target, vec))
+                if norm:
+                    vec = tuple(v / norm for v in vec)
+                step.loads.append(Load("gravity", nums[0], line.loc, target, vec))
             else:
                 step.loads.append(Load("centrifugal", nums[0], line.loc, target, tuple(nums[1:7])))
 
