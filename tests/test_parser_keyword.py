@@ -704,3 +704,11 @@ def test_gravity_direction_is_normalised(deck):
     m = deck("*STEP\n*STATIC\n*DLOAD\nEALL, GRAV, 9810., 0., 0., -2.\n*END STEP\n")
     g = m.steps[0].loads[0]
     assert g.value == 9810.0 and g.vector == (0.0, 0.0, -1.0)
+
+
+def test_user_laws_need_no_data_lines(deck):
+    # CCX-UM *CREEP (LAW=USER): the law comes from a user routine, no data line follows
+    m = deck("*MATERIAL, NAME=A\n*ELASTIC\n1.,0.3\n*CREEP, LAW=USER\n*STEP\n*CRACK PROPAGATION\n*END STEP\n")
+    assert "malformed-data" not in codes(m)
+    assert m.materials["A"].first("creep").options["LAW"] == "USER"
+    assert [p.kind for p in m.steps[0].procedures] == ["other"]

@@ -157,7 +157,8 @@ def read_material_card(rd: Reader, kw: KeywordLine, start: int, end: int, first_
     pending_loc = None
     bad = False
     lines = list(rd.lines(start, end, first_line))
-    if not lines and kind not in ("user", "other", "damping"):
+    user_law = opts.get("LAW") == "USER" or opts.get("HARDENING") == "USER"
+    if not lines and kind not in ("user", "other", "damping") and not user_law:
         rd.issue("malformed-data", f"{kw.written} has no data line", kw.loc.line, material=mat.name)
         return
     for line in lines:
