@@ -380,3 +380,30 @@ def test_corpus_sweep_has_no_rule_failures(corpus_dir):
     assert failed == []
     # the corpus decks are solver test decks that run: none lacks the elastic data a structural step needs
     assert [f for f in found if f.rule == "analysis/missing-elastic"] == []
+
+
+BULK = """SOL 103
+CEND
+METHOD = 1
+BEGIN BULK
+EIGRL,1,,,4
+GRID,1,,0.,0.,0.
+GRID,2,,10.,0.,0.
+GRID,3,,10.,10.,0.
+GRID,4,,0.,10.,0.
+CQUAD4,1,1,1,2,3,4
+PSHELL,1,7,2.0,7
+MAT1,7,70000.,,0.33{rho}
+ENDDATA
+"""
+
+
+def test_end_to_end_bulk_deck(write_deck):
+    pytest.importorskip("linter.parsers.bulk")
+    from linter.check import check_paths
+
+    path = write_deck("bracket.bdf", BULK.format(rho=""))
+    found = [f for f in check_paths([str(path)]).findings if f.rule == "analysis/missing-density"]
+    assert len(found) == 1 and found[0].severity == "error" and found[0].line == 12   # the MAT1 line
+    path = write_deck("bracket_rho.bdf", BULK.format(rho=",2.7e-9"))
+    assert [f for f in check_paths([str(path)]).findings if f.rule == "analysis/missing-density"] == []
