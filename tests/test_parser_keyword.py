@@ -10,8 +10,9 @@ import os
 import shutil
 import subprocess
 
-import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from linter.includes import IncludePolicy
 from linter.model import norm_key
@@ -95,6 +96,15 @@ def test_fortran_number_forms():
     assert to_float("-.5") == -0.5
     assert to_float("2.1+5") == 2.1e5
     assert to_float("abc") is None
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.floats(allow_nan=False, allow_infinity=False, min_value=-1e300, max_value=1e300))
+def test_fortran_d_exponent_round_trip(x):
+    # Fortran D-exponent notation (common practice): 1.234560D+05 == 1.234560E+05
+    text = f"{x:.12E}"
+    assert to_float(text.replace("E", "D")) == float(text)
+    assert to_float(text.replace("E", "d").replace("+", "")) == float(text)
 
 
 def test_fortran_numbers_in_material_rows(deck):
@@ -359,12 +369,14 @@ def test_large_node_card_uses_a_sample(deck, monkeypatch):
 def test_element_counts_match_meshio(deck, write_deck):
     # external reference: meshio's Abaqus-format reader (one cell block per *ELEMENT card)
     meshio = pytest.importorskip("meshio")
+    hexa20 = "".join(f"{30 + i}," + ",".join(["1"] * 15) + ",\n" + ",".join(["2"] * 5) + "\n" for i in range(3))
     text = CUBE + ("*ELEMENT, TYPE=C3D8R, ELSET=B\n" + "".join(f"{i},1,2,3,4,5,6,7,8\n" for i in range(2, 9)) +
-                   "** comment\n*ELEMENT, TYPE=C3D4\n20,1,2,3,4\n21,1,2,3,5\n")
+                   "** comment\n*ELEMENT, TYPE=C3D4\n20,1,2,3,4\n\n21,1,2,3,5\n"
+                   "*ELEMENT, TYPE=C3D20R\n" + hexa20)
     path = write_deck("mesh.inp", text)
     ours = [b.count for b in parse(path).element_blocks]
     theirs = [len(c.data) for c in meshio.read(str(path), file_format="abaqus").cells]
-    assert ours == theirs == [1, 7, 2]
+    assert ours == theirs == [1, 7, 2, 3]
 
 
 # --------------------------------------------------------------------------- materials
