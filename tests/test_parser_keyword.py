@@ -724,3 +724,11 @@ def test_user_laws_need_no_data_lines(deck):
     assert "malformed-data" not in codes(m)
     assert m.materials["A"].first("creep").options["LAW"] == "USER"
     assert [p.kind for p in m.steps[0].procedures] == ["other"]
+
+
+def test_orientation_by_distribution_name_and_incomplete_ortho_row(deck):
+    m = deck("*ORIENTATION, NAME=OD\nMYDIST\n*MATERIAL, NAME=O\n*ELASTIC, TYPE=ORTHO\n1,2,3,4,5\n")
+    assert m.orientations["OD"].values == ()
+    # formats.md 2.2 (CCX-SRC elastics.f): 8 values are required on the first ORTHO line
+    iss = issue(m, "malformed-data")
+    assert iss.loc.line == 5 and iss.data["expected"] == 9 and iss.data["given"] == 5

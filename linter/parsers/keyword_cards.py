@@ -5,7 +5,7 @@ import math
 from typing import Optional
 
 from ..model import Load, MassSource, MaterialRef, Orientation, Section, Step, norm_key
-from .keyword_lex import KeywordLine, Reader, is_int
+from .keyword_lex import KeywordLine, Reader, is_int, to_float
 
 SECTION_CARDS = {"SOLIDSECTION": ("solid", "solid"), "SHELLSECTION": ("shell", "shell"),
                  "MEMBRANESECTION": ("membrane", "membrane"), "BEAMSECTION": ("beam", "beam"),
@@ -97,14 +97,17 @@ def read_orientation(rd: Reader, kw: KeywordLine, start: int, end: int, first_li
     if not name:
         rd.issue("malformed-data", "*ORIENTATION without NAME=", kw.loc.line)
         return
+    lines = list(rd.lines(start, end, first_line))
+    # a *DISTRIBUTION name may stand in for the six numbers (CCX-UM *ORIENTATION): no values then
+    by_name = bool(lines and lines[0].fields and to_float(lines[0].fields[0]) is None)
     vals: list[float] = []
-    for line in rd.lines(start, end, first_line):
+    if not lines:
+        rd.issue("malformed-data", "*ORIENTATION has no data line (the six coordinates are required)", kw.loc.line)
+    for line in [] if by_name else lines:
         for f in line.fields:
             v = rd.real(f, line, "orientation value", empty_is_issue=False)
             if v is not None:
                 vals.append(v)
-    if not vals:
-        rd.issue("malformed-data", "*ORIENTATION has no data line (the six coordinates are required)", kw.loc.line)
     model.orientations[norm_key(name)] = Orientation(name=name.strip(), key=norm_key(name), loc=kw.loc,
                                                      system=kw.upper("SYSTEM", "RECTANGULAR"), values=tuple(vals))
 

@@ -184,6 +184,10 @@ def _finish_row(rd: Reader, block: PropertyBlock, fields: list[str], blanks: lis
     if block.kind in ("other", "damping") or (block.kind == "user" and n == 0):
         return
     count = n if n else len(fields)
+    if n > 8 and len(fields) < n:
+        rd.issue("malformed-data", f"{block.card}: a row needs {n} constants over {(n + 1 + 7) // 8} lines, only "
+                 f"{len(fields)} given (CalculiX: the definition is not complete)", loc.line, material=mat.name,
+                 expected=n, given=len(fields))
     vals: list[float] = []
     blank_idx: list[int] = []
     for i in range(count):
