@@ -732,3 +732,12 @@ def test_orientation_by_distribution_name_and_incomplete_ortho_row(deck):
     # formats.md 2.2 (CCX-SRC elastics.f): 8 values are required on the first ORTHO line
     iss = issue(m, "malformed-data")
     assert iss.loc.line == 5 and iss.data["expected"] == 9 and iss.data["given"] == 5
+
+
+def test_includes_of_first_line_and_case(write_deck, tmp_path):
+    write_deck("x.inp", "*NODE\n1,0,0,0\n")
+    write_deck("y.inp", "** y\n")
+    top = write_deck("t.inp", "*include, input=x.inp\n*MATERIAL, NAME=A\n  * In Clude , INPUT=y.inp\n"
+                     "*INCLUDE, INPUT=missing.inp\n")
+    assert K.includes_of(str(top), ParseOptions()) == [str(tmp_path / "x.inp"), str(tmp_path / "y.inp")]
+    assert [i.status for i in parse(top).includes] == ["ok", "ok", "missing"]

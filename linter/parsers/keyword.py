@@ -31,7 +31,9 @@ MAX_NAME = 80
 #: a newline followed by a keyword, comment or blank line (the match ends where that line starts)
 _SPECIAL = re.compile(rb"\n(?=[ \t]*[*\n])")
 _SPECIAL_AT_START = re.compile(rb"[ \t]*[*\n]")
-_INCLUDE = re.compile(rb"^[ \t]*\*[ \t]*i[ \t]*n[ \t]*c[ \t]*l[ \t]*u[ \t]*d[ \t]*e[^\n]*", re.M | re.I)
+#: candidate *INCLUDE lines (a literal newline first keeps the scan fast; the file start is tried apart)
+_INCLUDE = re.compile(rb"\n[ \t]*\*[ \t]*[iI][ \t]*[nN][ \t]*[cC][^\n]*")
+_INCLUDE_AT_START = re.compile(rb"[ \t]*\*[ \t]*[iI][ \t]*[nN][ \t]*[cC][^\n]*")
 
 #: keywords ccx knows that carry nothing a material check needs: skipped without comment
 KNOWN_SKIPPED = frozenset("""
@@ -106,8 +108,9 @@ def includes_of(path: str, options) -> list[str]:
         except SourceError:
             return
         tracker.stack.append(os.path.realpath(p))
-        for m in _INCLUDE.finditer(data):
-            kw = parse_keyword_line(m.group(0), Loc(p, 0))
+        head = _INCLUDE_AT_START.match(data)
+        for m in itertools.chain([head] if head else [], _INCLUDE.finditer(data)):
+            kw = parse_keyword_line(m.group(0).lstrip(b"\n"), Loc(p, 0))
             if kw.key != "INCLUDE" or not kw.get("INPUT"):
                 continue
             res = tracker.resolve(kw.get("INPUT"), base)
