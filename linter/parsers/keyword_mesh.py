@@ -63,8 +63,14 @@ def integers(chunk: bytes) -> np.ndarray:
     if arr is None:
         arr = _fast(_clean(chunk), np.int64)
     if arr is None:
-        arr = np.nan_to_num(numbers(chunk)).astype(np.int64)
+        arr = _to_int(numbers(chunk))
     return arr
+
+
+def _to_int(arr: np.ndarray) -> np.ndarray:
+    """Floats as int64; nan and out-of-range values (not element or node numbers anyway) become 0."""
+    arr = np.where(np.isfinite(arr) & (np.abs(arr) < 2.0 ** 62), arr, 0.0)
+    return arr.astype(np.int64)
 
 
 def numbers(chunk: bytes, cleaned: bool = False) -> np.ndarray:
@@ -124,7 +130,7 @@ def _ints(data: bytes, start: int, end: int, width: int, per_line: bool) -> np.n
         tab = np.zeros((len(rows), width))
         for i, r in enumerate(rows):
             tab[i, : min(width, r.size)] = r[:width]
-        arr = np.nan_to_num(tab).astype(np.int64).ravel()
+        arr = _to_int(tab).ravel()
     arr = arr[: arr.size - arr.size % width]
     return arr.reshape(-1, width)
 
@@ -308,4 +314,4 @@ def _node_sample(data: bytes, start: int, end: int) -> np.ndarray:
 def _all_nodes(ranges) -> tuple[np.ndarray, np.ndarray]:
     tabs = [_node_table(d[s:e]) for d, s, e in ranges]
     tab = np.concatenate(tabs) if tabs else np.zeros((0, 4))
-    return tab[:, 0].astype(np.int64), tab[:, 1:]
+    return _to_int(tab[:, 0]), tab[:, 1:]
