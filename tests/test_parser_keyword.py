@@ -741,3 +741,18 @@ def test_includes_of_first_line_and_case(write_deck, tmp_path):
                      "*INCLUDE, INPUT=missing.inp\n")
     assert K.includes_of(str(top), ParseOptions()) == [str(tmp_path / "x.inp"), str(tmp_path / "y.inp")]
     assert [i.status for i in parse(top).includes] == ["ok", "ok", "missing"]
+
+
+def test_without_the_element_catalogue_counts_still_work(deck, monkeypatch):
+    monkeypatch.setattr(K, "_catalogue", False)        # as if linter.catalogue could not be loaded
+    m = deck("*ELEMENT, TYPE=C3D20R\n1," + ",".join(["1"] * 15) + "\n" + ",".join(["2"] * 5) + "\n"
+             "*ELEMENT, TYPE=C3D8H\n2,1,2,3,4,5,6,7,8\n")
+    assert [(b.type, b.count, b.nodes) for b in m.element_blocks] == [("C3D20R", 1, 20), ("C3D8H", 1, 8)]
+    assert "unknown-element-type" not in codes(m)
+
+
+def test_format_detection_picks_keyword(write_deck):
+    from linter import parsers
+
+    p = write_deck("m.inp", CUBE)
+    assert parsers.detect(str(p), p.read_bytes()) == "keyword"
