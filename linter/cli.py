@@ -1,0 +1,282 @@
+"""The ``deckwarden`` command: ``check``, ``rules``, ``explain``, ``--version``.
+
+Exit codes: 0 nothing at or above the fail level; 1 findings at or above it; 2 the check
+is incomplete (missing path, unreadable file, no deck, internal failure) or a usage
+error. Importing this module stays light (argparse only): the engine, numpy and rich
+load when a command runs.
+"""
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+from typing import Optional, Sequence
+
+from . import __version__
+
+FORMATS = ("text", "json", "sarif", "audit", "line")
+LEVELS = ("error", "warning", "note")
+EXIT_USAGE = 2
+
+
+class UsageError(Exception):
+    """A problem with the command line or the configuration: message, exit code 2."""
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message):  # argparse's own exit code is 2 as well; keep one message format
+        self.print_usage(sys.stderr)
+        raise UsageError(message)
+
+
+def build_parser() -> argparse.ArgumentParser:
+    p = _Parser(prog="deckwarden",
+                description="Check the materials of finite-element input decks before the solve.")
+    p.add_argument("--version", action="version", version=f"deckwarden {__version__}")
+    sub = p.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+
+    c = sub.add_parser("check", help="check decks (files or folders)",
+                       description="Check decks and report findings. Exit code 0: nothing at or above the "
+                                   "fail level; 1: findings at or above it; 2: the check is incomplete.")
+    c.add_argument("paths", nargs="+", metavar="PATH", help="deck files or folders to walk")
+    c.add_argument("--format", "-f", choices=FORMATS, default="text", help="report format (default: text)")
+    c.add_argument("--output", "-o", metavar="FILE", help="write the report to FILE instead of standard output")
+    c.add_argument("--fail-on", choices=LEVELS, help="lowest severity that makes the exit code 1 (default: error)")
+    c.add_argument("--config", metavar="FILE", help="configuration file (default: deckwarden.yaml found upwards)")
+    c.add_argument("--dialect", action="append", default=[], metavar="NAME|FORMAT=NAME",
+                   help="solver dialect for every format, or for one format (repeatable)")
+    c.add_argument("--solver-cwd", metavar="DIR", help="resolve keyword includes from this run folder")
+    c.add_argument("--include-root", metavar="DIR", help="includes may not resolve outside this folder")
+    c.add_argument("--allow-include-outside", action="store_true", help="allow includes anywhere")
+    c.add_argument("--units", metavar="SYSTEM", help="declare the unit system instead of inferring it")
+    c.add_argument("--select", action="append", default=[], metavar="ID|FAMILY",
+                   help="run only these rules or families (repeatable, or comma-separated)")
+    c.add_argument("--ignore", action="append", default=[], metavar="ID|FAMILY",
+                   help="skip these rules or families (repeatable, or comma-separated)")
+    c.add_argument("--jobs", "-j", type=_positive_int, metavar="N", help="check files in N processes")
+    c.add_argument("--no-color", action="store_true", help="no colour in the text report")
+
+    r = sub.add_parser("rules", help="list the rules", description="List every registered rule.")
+    r.add_argument("--format", "-f", choices=("text", "markdown", "json"), default="text")
+
+    e = sub.add_parser("explain", help="what a rule checks and why",
+                       description="Show a rule's title, default severity, rationale, references and data.")
+    e.add_argument("rule", metavar="RULE", help="a rule id (family/name) or a family")
+    return p
+
+
+def _positive_int(text: str) -> int:
+    try:
+        n = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"not a whole number: {text!r}") from None
+    if n < 1:
+        raise argparse.ArgumentTypeError("must be 1 or more")
+    return n
+
+
+def _split(items: Sequence[str]) -> list[str]:
+    return [part.strip() for item in items for part in item.split(",") if part.strip()]
+
+
+# --------------------------------------------------------------------------- check
+
+
+def _config(args):
+    from .config import Config, ConfigError
+
+    try:
+        cfg = Config.load(args.config, start=args.paths[0] if os.path.exists(args.paths[0]) else None)
+    except ConfigError as exc:
+        raise UsageError(str(exc)) from None
+    if args.fail_on:
+        cfg.fail_on = args.fail_on
+    for item in args.dialect:
+        if "=" in item:
+            fmt, _, name = item.partition("=")
+            if not fmt.strip() or not name.strip():
+                raise UsageError(f"--dialect {item!r}: expected NAME or FORMAT=NAME")
+            cfg.dialects[fmt.strip().lower()] = name.strip().lower()
+        elif item.strip():
+            cfg.dialects = {k: item.strip().lower() for k in cfg.dialects}
+        else:
+            raise UsageError("--dialect: empty name")
+    for opt, attr in (("solver_cwd", "solver_cwd"), ("include_root", "include_root")):
+        value = getattr(args, opt)
+        if value is not None:
+            if not os.path.isdir(value):
+                raise UsageError(f"--{opt.replace('_', '-')} {value}: not a folder")
+            setattr(cfg, attr, os.path.abspath(value))
+    if args.allow_include_outside:
+        cfg.allow_include_outside = True
+    if args.units:
+        cfg.units = args.units
+    select, ignore = _split(args.select), _split(args.ignore)
+    _check_rule_names(select + ignore)
+    if select:
+        cfg.select = select
+    if ignore:
+        cfg.ignore = list(cfg.ignore) + ignore
+    return cfg
+
+
+def _check_rule_names(names: list[str]) -> None:
+    if not names:
+        return
+    from . import registry
+
+    ids = set(registry.load())
+    known = ids | {i.split("/", 1)[0] for i in ids} | set(registry.FAMILIES)
+    for n in names:
+        if n not in known:
+            raise UsageError(f"unknown rule or family {n!r}{_suggest(n, known)}")
+
+
+def _suggest(name: str, known) -> str:
+    import difflib
+
+    close = difflib.get_close_matches(name, sorted(known), n=3, cutoff=0.6)
+    close += [k for k in sorted(known) if "/" in k and k.split("/", 1)[1] == name and k not in close]
+    return f"; did you mean: {', '.join(close[:4])}?" if close else ""
+
+
+def _inputs(result) -> set[str]:
+    out = set()
+    for fr in result.files:
+        out.add(os.path.realpath(fr.path))
+        summ = fr.summary if isinstance(fr.summary, dict) else {}
+        out.update(os.path.realpath(str(f)) for f in summ.get("files_read") or ())
+    return out
+
+
+def cmd_check(args) -> int:
+    from . import reporters
+    from .check import check_paths, exit_code
+
+    cfg = _config(args)
+    if args.output and os.path.realpath(args.output) in {os.path.realpath(p) for p in args.paths}:
+        raise UsageError(f"--output {args.output}: is one of the paths to check; deckwarden never writes its input")
+    result = check_paths(list(args.paths), cfg, jobs=args.jobs)
+    code = exit_code(result, cfg.fail_on)
+    opts = reporters.ReportOptions(color=False if (args.no_color or args.output) else None,
+                                   fail_on=cfg.fail_on, exit_code=code)
+    fn = reporters.get(args.format)
+    if args.output:
+        if os.path.realpath(args.output) in _inputs(result):
+            raise UsageError(f"--output {args.output}: is a file the check read; deckwarden never writes its input")
+        try:
+            with open(args.output, "w", encoding="utf-8", newline="\n") as fh:
+                fn(result, fh, opts)
+        except OSError as exc:
+            print(f"deckwarden: cannot write {args.output}: {exc.strerror or exc}", file=sys.stderr)
+            return 2
+    else:
+        try:
+            fn(result, sys.stdout, opts)
+            sys.stdout.flush()
+        except BrokenPipeError:  # the reader went away (| head): the exit code still tells the outcome
+            try:
+                sys.stdout = open(os.devnull, "w")
+            except OSError:  # pragma: no cover
+                pass
+    return code
+
+
+# --------------------------------------------------------------------------- rules / explain
+
+
+def rules_markdown(rules) -> str:
+    """The README rule list (between ``<!-- rules:start -->`` and ``<!-- rules:end -->``)."""
+    from .reporters.audit import md
+
+    lines = ["| Rule | Severity | What it reports |", "| --- | --- | --- |"]
+    for r in rules:
+        lines.append(f"| `{r.id}` | {r.severity} | {md(r.title)} |")
+    return "\n".join(lines) + "\n"
+
+
+def cmd_rules(args) -> int:
+    import json
+
+    from . import registry
+
+    rules = registry.all_rules()
+    if args.format == "markdown":
+        sys.stdout.write(rules_markdown(rules))
+    elif args.format == "json":
+        doc = [{"id": r.id, "severity": r.severity, "title": r.title, "rationale": r.rationale,
+                "references": list(r.references), "data": r.data, "pack": r.pack,
+                "formats": list(r.formats) if r.formats else None,
+                "dialects": list(r.dialects) if r.dialects else None} for r in rules]
+        sys.stdout.write(json.dumps(doc, indent=2, ensure_ascii=False) + "\n")
+    else:
+        w = max((len(r.id) for r in rules), default=10)
+        for r in rules:
+            sys.stdout.write(f"{r.id:<{w}}  {r.severity:<7}  {r.title}\n")
+        sys.stdout.write(f"{len(rules)} rules\n")
+    for name, detail in registry.plugin_errors():
+        print(f"deckwarden: rule plugin {name!r} could not be loaded: {detail}", file=sys.stderr)
+    return 0
+
+
+def cmd_explain(args) -> int:
+    import textwrap
+
+    from . import registry
+
+    rules = registry.load()
+    rid = args.rule.strip()
+    r = rules.get(rid)
+    if r is None:
+        family = [x for x in registry.all_rules() if x.family == rid]
+        if family:
+            sys.stdout.write(f"family {rid}: {len(family)} rules\n")
+            for x in family:
+                sys.stdout.write(f"  {x.id}  ({x.severity})  {x.title}\n")
+            return 0
+        print(f"deckwarden: no rule named {rid!r}{_suggest(rid, set(rules))}", file=sys.stderr)
+        return 2
+
+    def para(label: str, text: str) -> str:
+        body = textwrap.fill(text, width=88, initial_indent="  ", subsequent_indent="  ")
+        return f"{label}:\n{body}\n"
+
+    out = [f"{r.id}: {r.title}\n", f"default severity: {r.severity}\n",
+           f"pack: {r.pack}" + (" (reported by the engine itself)" if r.engine else "") + "\n"]
+    if r.formats:
+        out.append(f"formats: {', '.join(r.formats)}\n")
+    if r.dialects:
+        out.append(f"dialects: {', '.join(r.dialects)}\n")
+    out.append(para("why", r.rationale or "(no rationale given)"))
+    out.append("references:\n" + ("".join(f"  - {ref}\n" for ref in r.references) or "  (none)\n"))
+    out.append(para("finding data", r.data or "(nothing beyond the message)"))
+    sys.stdout.write("\n".join(out))
+    return 0
+
+
+# --------------------------------------------------------------------------- entry
+
+
+def main(argv: Optional[Sequence[str]] = None) -> int:
+    try:
+        if hasattr(sys.stdout, "reconfigure"):
+            sys.stdout.reconfigure(errors="backslashreplace")
+    except (ValueError, OSError):  # pragma: no cover - a closed or odd stream
+        pass
+    try:
+        args = build_parser().parse_args(list(sys.argv[1:] if argv is None else argv))
+        if args.command is None:
+            build_parser().print_help(sys.stderr)
+            return EXIT_USAGE
+        return {"check": cmd_check, "rules": cmd_rules, "explain": cmd_explain}[args.command](args)
+    except UsageError as exc:
+        print(f"deckwarden: error: {exc}", file=sys.stderr)
+        return EXIT_USAGE
+    except SystemExit as exc:  # --version, --help
+        return exc.code if isinstance(exc.code, int) else (0 if exc.code is None else EXIT_USAGE)
+    except KeyboardInterrupt:
+        print("deckwarden: interrupted", file=sys.stderr)
+        return 130
+    except Exception as exc:  # never a traceback
+        print(f"deckwarden: internal error (please report it): {type(exc).__name__}: {exc}", file=sys.stderr)
+        return 2

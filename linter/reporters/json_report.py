@@ -1,0 +1,67 @@
+"""The JSON report: one document per run, described by ``linter/data/report.schema.json``.
+
+Contract (schema_version 1; later changes are additive only)::
+
+    {"schema_version": 1,
+     "tool": {"name": "deckwarden", "version": "..."},
+     "caution": "...",
+     "files": [{"path", "format", "dialect", "materials": [{"name", "path", "line", ...}],
+                "unchecked": [...], "incomplete", ["unit_system"], ["summary"], "counts"}],
+     "findings": [{"rule", "severity", "path", "line", "material", "message", "data"}],
+     "summary": {"error", "warning", "note", "total", "files", "incomplete", "fail_on", "exit_code"}}
+
+Paths are as given on the command line (relative stays relative); materials carry the
+file where they are defined (maybe an include). Non-finite numbers become ``null``.
+"""
+from __future__ import annotations
+
+import json
+from typing import Any
+
+from . import as_options, line_of, run_exit_code, severity_counts, sorted_findings
+
+SCHEMA_VERSION = 1
+
+
+def _finding(f) -> dict[str, Any]:
+    return {
+        "rule": str(f.rule),
+        "severity": str(f.severity),
+        "path": None if f.path is None else str(f.path),
+        "line": line_of(f.line),
+        "material": None if f.material is None else str(f.material),
+        "message": str(f.message),
+        "data": f.data if isinstance(f.data, dict) else {"value": f.data},
+    }
+
+
+def build(result, options=None) -> dict[str, Any]:
+    """The report as plain JSON types (no NaN or infinity anywhere)."""
+    from .. import CAUTION, __version__
+    from ..check import jsonable
+
+    opts = as_options(options)
+    files = []
+    for fr in result.files:
+        entry = fr.to_dict()
+        entry["counts"] = severity_counts(fr.findings)
+        files.append(entry)
+    findings = sorted_findings(result.general) + [f for fr in result.files for f in sorted_findings(fr.findings)]
+    counts = severity_counts(findings)
+    doc = {
+        "schema_version": SCHEMA_VERSION,
+        "tool": {"name": "deckwarden", "version": __version__},
+        "caution": CAUTION,
+        "files": files,
+        "findings": [_finding(f) for f in findings],
+        "summary": {**counts, "total": len(findings), "files": len(result.files),
+                    "incomplete": bool(result.incomplete), "fail_on": opts.fail_on,
+                    "exit_code": run_exit_code(result, opts)},
+    }
+    return jsonable(doc)
+
+
+def report(result, stream, options=None) -> None:
+    doc = build(result, options)
+    stream.write(json.dumps(doc, indent=2, ensure_ascii=False, allow_nan=False))
+    stream.write("\n")
