@@ -185,7 +185,8 @@ def missing_orientation(model, ctx):
     for sec in model.sections:
         if sec.kind != "solid" or sec.orientation:
             continue
-        if sec.options.get("CORDM") is not None:
+        cordm = sec.options.get("CORDM")
+        if cordm is not None and str(cordm).strip() != "":   # bulk parsers keep a blank field as ""
             continue
         for ref in sec.materials:
             mat = model.materials.get(ref.key)

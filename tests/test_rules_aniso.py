@@ -168,8 +168,13 @@ def test_missing_orientation():
     f = run(model_with(block("elastic", "mat9", [g]), fmt="bulk", dialect="mystran",
                        sections=[_solid("M", options={"CORDM": None})]))
     assert [x.rule for x in f] == ["aniso/missing-orientation"] and "CORDM is blank" in f[0].message
+    f = run(model_with(block("elastic", "mat9", [g]), fmt="bulk", dialect="mystran",
+                       sections=[_solid("M", options={"CORDM": ""})]))
+    assert [x.rule for x in f] == ["aniso/missing-orientation"]
     assert run(model_with(block("elastic", "mat9", [g]), fmt="bulk", dialect="mystran",
                           sections=[_solid("M", options={"CORDM": 0})])) == []
+    assert run(model_with(block("elastic", "mat9", [g]), fmt="bulk", dialect="mystran",
+                          sections=[_solid("M", options={"CORDM": "0"})])) == []
 
 
 def test_conductivity_not_positive_definite():
