@@ -85,7 +85,7 @@ def read_deck_bytes(path: str, max_size: int) -> Source:
         lf = data.count(b"\n") - crlf
         line_ends = "crlf" if crlf and not cr and not lf else ("cr" if cr and not crlf and not lf else "mixed")
         data = data.replace(b"\r\n", b"\n").replace(b"\r", b"\n")
-    if encoding == "utf-8":
+    if encoding == "utf-8" and not data.isascii():  # isascii() is a fast scan; most decks are ASCII
         try:
             data.decode("utf-8")
         except UnicodeDecodeError:
