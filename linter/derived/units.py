@@ -16,6 +16,11 @@ from ..unitinfer import infer, load_data, material_system
 from . import derivation
 
 
+def _r(x: float) -> float:
+    """Scale factor rounded to 12 significant digits (1e12, not 999999999999.9999)."""
+    return float(f"{x:.12g}")
+
+
 def summary(inf) -> dict:
     data = inf.data
     out = {"name": None, "confidence": 0.0, "declared": inf.declared}
@@ -24,12 +29,12 @@ def summary(inf) -> dict:
         out.update({
             "name": s.name,
             "confidence": 1.0 if inf.declared else round(inf.confidence, 3),
-            "stress_scale_to_pa": s.scale("stress"),
-            "length_scale_to_m": s.scale("length"),
-            "density_scale_to_kg_m3": s.scale("density"),
-            "time_scale_to_s": s.scale("time"),
-            "mass_scale_to_kg": s.scale("mass"),
-            "temperature_interval_to_k": s.scale("temperature"),
+            "stress_scale_to_pa": _r(s.scale("stress")),
+            "length_scale_to_m": _r(s.scale("length")),
+            "density_scale_to_kg_m3": _r(s.scale("density")),
+            "time_scale_to_s": _r(s.scale("time")),
+            "mass_scale_to_kg": _r(s.scale("mass")),
+            "temperature_interval_to_k": _r(s.scale("temperature")),
             "temperature_scale": s.temperature_scale,
         })
     if inf.best is not None:
