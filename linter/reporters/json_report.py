@@ -35,6 +35,15 @@ def _finding(f) -> dict[str, Any]:
     }
 
 
+def _located(item: dict, label: str) -> dict[str, Any]:
+    """A material or unchecked entry with the keys the schema requires, in their types."""
+    out = dict(item)
+    out[label] = "" if item.get(label) is None else str(item.get(label))
+    out["path"] = None if item.get("path") is None else str(item.get("path"))
+    out["line"] = line_of(item.get("line"))
+    return out
+
+
 def build(result, options=None) -> dict[str, Any]:
     """The report as plain JSON types (no NaN or infinity anywhere)."""
     from .. import CAUTION, __version__
@@ -44,6 +53,8 @@ def build(result, options=None) -> dict[str, Any]:
     files = []
     for fr in result.files:
         entry = fr.to_dict()
+        entry["materials"] = [_located(m, "name") for m in entry.get("materials") or () if isinstance(m, dict)]
+        entry["unchecked"] = [_located(u, "what") for u in entry.get("unchecked") or () if isinstance(u, dict)]
         entry["counts"] = severity_counts(fr.findings)
         files.append(entry)
     findings = sorted_findings(result.general) + [f for fr in result.files for f in sorted_findings(fr.findings)]
