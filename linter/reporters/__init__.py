@@ -162,6 +162,10 @@ def number(value: Any) -> str:
     return f"{f:.4g}"
 
 
+#: bookkeeping and input keys a derived mapping may repeat: not worth showing as "derived"
+_NOT_DERIVED = {"T", "temperature", "line", "path", "block", "index", "row", "E", "nu", "confidence"}
+
+
 def key_numbers(derived: Any, limit: int = 4) -> list[tuple[str, str]]:
     """A few (name, value) pairs of scalar numbers found in a material's ``derived`` mapping.
 
@@ -175,7 +179,7 @@ def key_numbers(derived: Any, limit: int = 4) -> list[tuple[str, str]]:
             return
         if isinstance(node, dict):
             for k, v in node.items():
-                if not str(k).startswith("_"):
+                if not str(k).startswith("_") and str(k) not in _NOT_DERIVED:
                     walk(v, str(k), depth + 1)
         elif isinstance(node, (list, tuple)):
             if node:
