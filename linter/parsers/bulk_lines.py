@@ -1,0 +1,96 @@
+"""Byte-level line table of one bulk file: where lines start and end, which begin an entry, and card names.
+
+Everything here is numpy over the whole buffer (no Python object per line), so that a
+deck of millions of GRID/element lines is classified in a few passes. Facts:
+formats.md 4.2 (name in columns 1-8, ``*`` for large field), 4.3 (continuations start
+with ``+``, ``*``, a comma or a blank first field), 4.4 (``$`` starts a comment).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .bulk_fields import gather
+
+COMMA, SPACE, STAR, PLUS, DOLLAR = 44, 32, 42, 43, 36
+
+
+@dataclass
+class Lines:
+    buf: np.ndarray          # uint8 view of the file bytes
+    ls: np.ndarray           # start offset of every physical line
+    le: np.ndarray           # end offset (exclusive), comment cut off
+    commas: np.ndarray       # offsets of every comma in the file
+
+
+def line_table(data: bytes) -> Lines:
+    buf = np.frombuffer(data, dtype=np.uint8)
+    nl = np.flatnonzero(buf == 10)
+    ls = np.concatenate(([0], nl + 1)).astype(np.int64)
+    le = np.concatenate((nl, [len(data)])).astype(np.int64)
+    dollars = np.flatnonzero(buf == DOLLAR)
+    if dollars.size:
+        k = np.searchsorted(dollars, ls)
+        kk = np.minimum(k, dollars.size - 1)
+        cut = (k < dollars.size) & (dollars[kk] < le)
+        le = np.where(cut, dollars[kk], le)
+    return Lines(buf, ls, le, np.flatnonzero(buf == COMMA))
+
+
+def classify(lines: Lines, lo: int, hi: int):
+    """For physical lines lo..hi-1: (kept line indices, head mask over kept, names of heads (S8), large mask of heads).
+
+    Kept lines are the non-blank ones; a head starts an entry, the others continue it.
+    Names are upper-cased, cut at the first comma or blank, without the large-field ``*``.
+    """
+    idx = np.arange(lo, hi, dtype=np.int64)
+    ls, le = lines.ls[idx], lines.le[idx]
+    first8 = gather(lines.buf, ls, le, 8)
+    blank8 = (first8 == SPACE).all(axis=1)
+    length = le - ls
+    empty = blank8 & (length <= 8)
+    maybe = np.flatnonzero(blank8 & (length > 8))
+    if maybe.size:
+        rest = gather(lines.buf, ls[maybe] + 8, le[maybe], 80)
+        empty[maybe[(rest == SPACE).all(axis=1)]] = True
+    keep = ~empty
+    idx, first8, blank8 = idx[keep], first8[keep], blank8[keep]
+    c0 = first8[:, 0]
+    cont = blank8 | (c0 == PLUS) | (c0 == STAR) | (c0 == COMMA) | (c0 == SPACE)
+    head = ~cont
+    f8 = first8[head].copy()
+    delim = (f8 == COMMA) | (f8 == SPACE)
+    stop = np.where(delim.any(axis=1), delim.argmax(axis=1), 8)
+    f8[np.arange(8)[None, :] >= stop[:, None]] = SPACE
+    large = (f8 == STAR).any(axis=1)
+    f8[f8 == STAR] = SPACE
+    low = (f8 >= 97) & (f8 <= 122)
+    f8[low] -= 32
+    names = np.ascontiguousarray(f8).view("S8").ravel()
+    return idx, head, names, large
+
+
+def data_fields(lines: Lines, rows: np.ndarray, free: bool) -> tuple[np.ndarray, np.ndarray]:
+    """Start/end offsets (n, 8) of the 8 small-field data fields (2-9) of physical lines ``rows``."""
+    ls, le = lines.ls[rows], lines.le[rows]
+    if not free:
+        st = ls[:, None] + 8 + 8 * np.arange(8, dtype=np.int64)[None, :]
+        en = np.minimum(st + 8, le[:, None])
+        st = np.minimum(st, le[:, None])
+        return st, en
+    commas = lines.commas
+    c0 = np.searchsorted(commas, ls)
+    cn = np.searchsorted(commas, le) - c0
+    j = np.arange(9, dtype=np.int64)[None, :]
+    ci = np.minimum(c0[:, None] + j, max(commas.size - 1, 0))
+    pos = np.where(j < cn[:, None], commas[ci] if commas.size else 0, le[:, None])
+    st = np.minimum(pos[:, :8] + 1, le[:, None])
+    en = pos[:, 1:]
+    return st, en
+
+
+def is_free(lines: Lines, rows: np.ndarray) -> np.ndarray:
+    ls, le = lines.ls[rows], lines.le[rows]
+    commas = lines.commas
+    return np.searchsorted(commas, le) > np.searchsorted(commas, ls)
