@@ -16,6 +16,10 @@ POSITIVE = {
                      "_word": "conductivity"},
     "specific_heat": {"iso": ("c",), "_word": "specific heat"},
 }
+#: bulk cards default these fields to 0 when blank, so 0 written out means "not given" (MAT1 RHO: formats.md
+#: 5.1; MAT4 CP: from memory);
+#: whether the analysis needs them is the analysis/* rules' question
+BULK_ZERO_MEANS_NONE = ("density", "specific_heat")
 TABLE_KINDS = ("elastic", "expansion", "conductivity", "specific_heat", "density")
 
 
@@ -26,7 +30,8 @@ TABLE_KINDS = ("elastic", "expansion", "conductivity", "specific_heat", "density
                 "heat flowing from cold to hot. For orthotropic and anisotropic conductivity the diagonal terms "
                 "are checked here; whether the whole tensor is positive definite is aniso/conductivity-not-"
                 "positive-definite. A zero that only comes from an empty field is reported once, as "
-                "parse/empty-field; an empty field on a bulk card means the property is not given.",
+                "parse/empty-field. On bulk cards an empty field means the property is not given, and RHO or CP = 0 "
+                "(the card's default) means no mass or heat capacity: only negative values are reported there.",
       references=(CCX_MAT, "physics.md 5.5 (handbook properties)"),
       data="kind; rows: list of {T, line, values: {column: value}} of the rows concerned")
 def nonpositive(model, ctx):
@@ -46,6 +51,10 @@ def nonpositive(model, ctx):
                 blank = [c for c in low if blk.layout.index(c) in row.blanks]
                 if blank and model.format == "bulk":
                     continue  # an empty bulk field: the property is simply not given
+                if model.format == "bulk" and blk.kind in BULK_ZERO_MEANS_NONE:
+                    low = {c: v for c, v in low.items() if v < 0}
+                    if not low:
+                        continue  # RHO/CP = 0 is the card's default: no mass / no heat capacity
                 if blank and all(v == 0 for v in low.values()):
                     key = empty_field_at(model, ctx, row.loc)
                     if key is not None:

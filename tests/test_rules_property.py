@@ -63,8 +63,14 @@ def test_bulk_blank_density_means_not_given():
     m = d.material("MID 1", elastic=[(1e7, 0.3)])
     d.block(m, "density", "iso", [(0.0,)], blanks=[(0,)])
     assert d.run("property/nonpositive") == []
+    # RHO = 0 written out is the same as the default: static decks carry it routinely
+    d.block(m, "density", "iso", [(0.0,)])
+    assert d.run("property/nonpositive") == []
     d.block(m, "density", "iso", [(-0.1,)])
     assert len(d.run("property/nonpositive")) == 1
+    # conductivity has no such default (MAT4 K > 0, formats.md 5.4)
+    d.block(m, "conductivity", "iso", [(0.0,)])
+    assert len(d.run("property/nonpositive")) == 2
 
 
 # ------------------------------------------------------------------------------------ temperature order
@@ -151,3 +157,26 @@ def test_end_to_end_property_rules(write_deck):
     # the empty conductivity field on line 19 is reported once, as parse/empty-field
     assert sorted(found) == [("parse/empty-field", 19), ("property/nonpositive", 17),
                              ("property/temperature-order", 15)]
+
+
+# ------------------------------------------------------------------------------------ corpus
+
+def test_bulk_corpus_no_false_property_errors(corpus_dir):
+    # MYSTRAN's own test decks: static ones write RHO = 0 routinely; none should give an elastic/property
+    # error (decks named *FATAL* are meant to fail and are left out), and no rule of ours may fail
+    import importlib.util
+
+    from linter.check import check_paths
+
+    if importlib.util.find_spec("linter.parsers.bulk") is None:
+        pytest.skip("the bulk parser is not there yet")
+    files = sorted(p for p in (corpus_dir / "bulk").glob("*.DAT") if "FATAL" not in p.name)
+    if not files:
+        pytest.skip("no bulk decks in the corpus")
+    res = check_paths([str(f) for f in files])
+    bad = [(r.path, f.rule, f.line) for r in res.files for f in r.findings
+           if f.rule.startswith(("elastic/", "property/")) and f.severity == "error"]
+    failed = [(r.path, f.data.get("failed_rule")) for r in res.files for f in r.findings
+              if f.rule == "internal/rule-failed"
+              and str(f.data.get("failed_rule", "")).startswith(("elastic/", "element/", "model/", "property/"))]
+    assert bad == [] and failed == []
