@@ -91,6 +91,8 @@ def test_bulk_types(cat):
     for name in ("CQUAD4", "CQUAD8", "CQUADR", "CTRIA3", "CTRIA6", "CTRIAR"):
         assert cat.get(name, "mystran").family == "shell"
         assert cat.get(name, "mystran").locking == "none"
+    # MYSTRAN's Kirchhoff plate variants (from memory; they appear in MYSTRAN's test decks)
+    assert cat.get("CQUAD4K", "mystran").family == "shell" and cat.get("CTRIA3K", "mystran").locking == "none"
     assert cat.get("CBAR", "nastran").family == "beam" and cat.get("CBEAM", "nastran").family == "beam"
     assert cat.get("CROD", "mystran").family == "truss" and cat.get("CONROD", "mystran").family == "truss"
     assert cat.get("CSHEAR", "mystran").family == "shear-panel"
