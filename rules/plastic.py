@@ -10,6 +10,8 @@ not a table, and are not checked here.
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
+from typing import Optional
 
 import numpy as np
 
@@ -28,18 +30,16 @@ def _fmt(x) -> str:
 
 
 def strain_is_total(block) -> bool:
-    """True when the parser says the strain column holds total strain (bulk TABLES1 curves).
+    """True when the parser says the x axis of the table is total strain (bulk MATS1/TABLES1).
 
-    Accepted option spellings: ``x_total_strain`` / ``total_strain`` (truthy), or ``strain`` /
-    ``x_axis`` / ``XAXIS`` equal to "total"."""
+    The bulk parser sets ``x_axis_total_strain`` and keeps the raw TABLES1 points in ``points``
+    (its rows then hold the plastic strain it derived with the MAT1 E). ``x_total_strain`` /
+    ``total_strain`` (truthy) or ``x_axis`` equal to "total" are accepted too."""
     o = block.options
-    if o.get("x_total_strain") or o.get("total_strain") is True:
+    if o.get("x_axis_total_strain") or o.get("x_total_strain") or o.get("total_strain") is True:
         return True
-    for k in ("strain", "x_axis", "XAXIS", "strain_measure"):
-        v = o.get(k)
-        if isinstance(v, str) and v.strip().lower() in ("total", "total strain", "total-strain"):
-            return True
-    return False
+    v = o.get("x_axis")
+    return isinstance(v, str) and v.strip().lower() in ("total", "total strain", "total-strain")
 
 
 def plastic_blocks(model):
@@ -63,32 +63,50 @@ def _number(v):
     return x if math.isfinite(x) else None
 
 
-def slope_only(block):
-    """(initial yield LIMIT1, slope H) of a bulk MATS1 given by its slope instead of a table, else None."""
-    if block.rows:
+def mats1_slope(block):
+    """H of a bulk MATS1 that gives a work-hardening slope instead of a table (None otherwise)."""
+    o = block.options
+    if o.get("card") != "MATS1" or o.get("points"):
         return None
-    h, y = _number(block.options.get("H")), _number(block.options.get("LIMIT1"))
-    return None if h is None and y is None else (y, h)
+    return _number(o.get("H"))
+
+
+@dataclass
+class Curve:
+    """One hardening curve: stresses, strains, the location of each point, and whether the strains are
+    total strains of a curve that starts at the origin (bulk TABLES1) rather than plastic strains."""
+
+    temperature: Optional[float]
+    stress: np.ndarray
+    strain: np.ndarray
+    locs: list
+    total: bool = False
+    table: bool = True
 
 
 def curves(block):
-    """(temperature or None, row indices, stress, strain) for every temperature group.
+    """Every curve of the block: one per temperature group of its rows.
 
-    A bulk MATS1 given by LIMIT1 and H (no table) is the one-point curve (LIMIT1, 0)."""
-    only = slope_only(block)
-    if only is not None:
-        if only[0] is not None:
-            yield None, np.array([-1]), np.array([only[0]]), np.array([0.0])
+    A bulk total-strain table is checked on its raw TABLES1 points (``options["points"]``, all at the
+    MATS1 line); a MATS1 given by LIMIT1 and H without rows is the one-point curve (LIMIT1, 0)."""
+    o = block.options
+    if strain_is_total(block) and o.get("points"):
+        pts = np.array([(float(x), float(y)) for x, y in o["points"]], dtype=float).reshape(-1, 2)
+        yield Curve(None, pts[:, 1], pts[:, 0], [block.loc] * len(pts), total=True)
+        return
+    if not block.rows:
+        y = _number(o.get("LIMIT1"))
+        if y is not None:
+            yield Curve(None, np.array([y]), np.array([0.0]), [block.loc], table=False)
         return
     stress, strain = block.column("stress"), block.column("plastic_strain")
     temps = block.temperatures()
+    total = strain_is_total(block)
     for idx in P.temperature_groups(temps):
         t = temps[idx[0]]
-        yield (None if math.isnan(t) else float(t)), idx, stress[idx], strain[idx]
-
-
-def row_loc(block, i: int):
-    return block.loc if i < 0 else block.rows[i].loc
+        yield Curve(None if math.isnan(t) else float(t), stress[idx], strain[idx],
+                    [block.rows[i].loc for i in idx], total=total,
+                    table=not (o.get("card") == "MATS1" and not o.get("points")))
 
 
 def elastic_modulus(mat, temperature=None):
@@ -129,22 +147,19 @@ def _listed(items: list[str]) -> str:
       references=(CCX_PL, NAS_PL, PHYS), data="temperature, line, first_strain, total_strain")
 def first_strain_not_zero(model, ctx):
     for mat, blk in plastic_blocks(model):
-        total = strain_is_total(blk)
-        for t, idx, s, e in curves(blk):
-            if idx[0] < 0:
-                continue  # MATS1 given by LIMIT1 and H: no table
-            bad = e[0] != 0 or (total and s[0] != 0)
-            if not bad:
+        for c in curves(blk):
+            s, e, t, total = c.stress, c.strain, c.temperature, c.total
+            if not c.table or not (e[0] != 0 or (total and s[0] != 0)):
                 continue
-            row = blk.rows[idx[0]]
+            loc = c.locs[0]
             if total:
                 msg = (f"{_where(mat, t)}: the total stress-strain curve starts at (strain {_fmt(e[0])}, "
-                       f"stress {_fmt(s[0])}) on line {row.loc.line}, not at the origin")
+                       f"stress {_fmt(s[0])}) on line {loc.line}, not at the origin")
             else:
                 msg = (f"{_where(mat, t)}: the first point has plastic strain {_fmt(e[0])} on line "
-                       f"{row.loc.line}; it must be 0 (the first point is the initial yield stress)")
-            yield ctx.finding(msg, row.loc, material=mat.name,
-                              data={"temperature": t, "line": row.loc.line, "first_strain": float(e[0]),
+                       f"{loc.line}; it must be 0 (the first point is the initial yield stress)")
+            yield ctx.finding(msg, loc, material=mat.name,
+                              data={"temperature": t, "line": loc.line, "first_strain": float(e[0]),
                                     "total_strain": total},
                               defect=("plastic-start", mat.key, blk.loc.line, t))
 
@@ -156,15 +171,15 @@ def first_strain_not_zero(model, ctx):
       references=(CCX_PL, NAS_PL, PHYS), data="temperature, points: [{line, strain, previous}]")
 def strain_not_increasing(model, ctx):
     for mat, blk in plastic_blocks(model):
-        for t, idx, s, e in curves(blk):
+        for c in curves(blk):
+            s, e, t = c.stress, c.strain, c.temperature
             bad = P.not_increasing(e)
             if not bad.size:
                 continue
-            pts = [{"line": blk.rows[idx[k]].loc.line, "strain": float(e[k]), "previous": float(e[k - 1])}
-                   for k in bad]
+            pts = [{"line": c.locs[k].line, "strain": float(e[k]), "previous": float(e[k - 1])} for k in bad]
             text = _listed([f"{_fmt(p['previous'])} then {_fmt(p['strain'])} (line {p['line']})" for p in pts])
             yield ctx.finding(f"{_where(mat, t)}: the strain does not increase: {text}",
-                              blk.rows[idx[bad[0]]].loc, material=mat.name,
+                              c.locs[bad[0]], material=mat.name,
                               data={"temperature": t, "points": pts})
 
 
@@ -176,23 +191,24 @@ def strain_not_increasing(model, ctx):
       references=(PHYS,), data="temperature, points: [{line, stress, previous, slope}]")
 def softening(model, ctx):
     for mat, blk in plastic_blocks(model):
-        for t, idx, s, e in curves(blk):
+        for c in curves(blk):
+            s, e, t = c.stress, c.strain, c.temperature
             bad = P.softening(s)
             if not bad.size:
                 continue  # (a MATS1 with a negative H is reported below)
             slopes = P.hardening_slopes(s, e)
-            pts = [{"line": blk.rows[idx[k]].loc.line, "stress": float(s[k]), "previous": float(s[k - 1]),
+            pts = [{"line": c.locs[k].line, "stress": float(s[k]), "previous": float(s[k - 1]),
                     "slope": float(slopes[k - 1])} for k in bad]
             text = _listed([f"{_fmt(p['previous'])} to {_fmt(p['stress'])} (line {p['line']})" for p in pts])
             yield ctx.finding(
                 f"{_where(mat, t)}: the stress falls: {text}. An engineering stress-strain curve past its "
                 "maximum looks like this; use true stress against true plastic strain up to necking",
-                blk.rows[idx[bad[0]]].loc, material=mat.name, data={"temperature": t, "points": pts})
-        only = slope_only(blk)
-        if only is not None and only[1] is not None and only[1] < 0:
-            yield ctx.finding(f"material {mat.name}: MATS1 hardening slope H = {_fmt(only[1])} is negative "
+                c.locs[bad[0]], material=mat.name, data={"temperature": t, "points": pts})
+        h = mats1_slope(blk)
+        if h is not None and h < 0:
+            yield ctx.finding(f"material {mat.name}: MATS1 hardening slope H = {_fmt(h)} is negative "
                               "(softening)", blk.loc, material=mat.name,
-                              data={"temperature": None, "points": [], "H": only[1]})
+                              data={"temperature": None, "points": [], "H": h})
 
 
 @rule("plastic/total-strain-given", severity="warning",
@@ -206,11 +222,12 @@ def total_strain_given(model, ctx):
     for mat, blk in plastic_blocks(model):
         if strain_is_total(blk):
             continue
-        for t, idx, s, e in curves(blk):
-            if idx[0] < 0 or not (s > 0).any():
-                continue  # no table (MATS1 by slope), or no hardening curve at all (zero yield, e.g. creep only): plastic/zero-yield tells
+        for c in curves(blk):
+            s, e, t = c.stress, c.strain, c.temperature
+            if not c.table or not (s > 0).any():
+                continue  # no table (MATS1 by slope), or no curve at all (zero yield, creep only: zero-yield tells)
             E = elastic_modulus(mat, t)
-            head = slice(0, min(2, len(idx)))
+            head = slice(0, min(2, len(s)))
             hit = None
             if E and E > 0:
                 match = np.flatnonzero(P.elastic_strain_match(s[head], e[head], E, tol))
@@ -226,15 +243,16 @@ def total_strain_given(model, ctx):
             if hit is None:
                 continue
             k, text, reason = hit
-            row = blk.rows[idx[k]]
-            yield ctx.finding(f"{_where(mat, t)}, line {row.loc.line}: {text}", row.loc, material=mat.name,
-                              data={"temperature": t, "line": row.loc.line, "strain": float(e[k]),
+            loc = c.locs[k]
+            yield ctx.finding(f"{_where(mat, t)}, line {loc.line}: {text}", loc, material=mat.name,
+                              data={"temperature": t, "line": loc.line, "strain": float(e[k]),
                                     "elastic_strain": float(s[k] / E) if E else None, "reason": reason})
 
 
-def initial_yield(blk, s, e) -> tuple[float, int]:
+def initial_yield(c: Curve) -> tuple[float, int]:
     """(initial yield stress, index in the curve): the second point of a total-strain curve from the origin."""
-    if strain_is_total(blk) and len(s) > 1 and s[0] == 0 and e[0] == 0:
+    s, e = c.stress, c.strain
+    if c.total and len(s) > 1 and s[0] == 0 and e[0] == 0:
         return float(s[1]), 1
     return float(s[0]), 0
 
@@ -249,11 +267,12 @@ def initial_yield(blk, s, e) -> tuple[float, int]:
 def zero_yield(model, ctx):
     for mat, blk in plastic_blocks(model):
         creep = mat.has("creep")
-        for t, idx, s, e in curves(blk):
-            y, k = initial_yield(blk, s, e)
+        for c in curves(blk):
+            t = c.temperature
+            y, k = initial_yield(c)
             if y > 0 or math.isnan(y):
                 continue
-            loc = row_loc(blk, int(idx[k]))
+            loc = c.locs[k]
             extra = ("; with *CREEP this is the usual way to model creep without a yield surface"
                      if creep and y == 0 else "")
             yield ctx.finding(f"{_where(mat, t)}: the initial yield stress is {_fmt(y)} on line {loc.line}"
@@ -273,8 +292,9 @@ def yield_vs_modulus(model, ctx):
     metal = tuple(float(x) for x in ctx.threshold("plastic.yield_strain_metal"))
     polymer = tuple(float(x) for x in ctx.threshold("plastic.yield_strain_polymer"))
     for mat, blk in plastic_blocks(model):
-        for t, idx, s, e in curves(blk):
-            y, k = initial_yield(blk, s, e)
+        for c in curves(blk):
+            t = c.temperature
+            y, k = initial_yield(c)
             E = elastic_modulus(mat, t)
             if not (y > 0) or not E or not (E > 0):
                 continue
@@ -283,7 +303,7 @@ def yield_vs_modulus(model, ctx):
             ratio = y / E
             if band[0] <= ratio <= band[1]:
                 continue
-            loc = row_loc(blk, int(idx[k]))
+            loc = c.locs[k]
             judged = {"metal": "a metal", "polymer": "a polymer"}.get(cls, "a metal or polymer (class not clear)")
             hint = (" (a yield stress in Pa with E in MPa, or similar unit mix-up?)" if ratio > 1
                     else " (the yield stress in MPa with E in Pa, or similar?)" if ratio < band[0] / 100 else "")
@@ -293,4 +313,5 @@ def yield_vs_modulus(model, ctx):
                 loc, material=mat.name,
                 data={"temperature": t, "line": loc.line, "yield_stress": y, "E": E, "yield_strain": ratio,
                       "material_class": cls, "band": list(band)},
-                restates=(("plastic-yield", mat.key, blk.loc.line, t),))
+                # the units rule names the same slip with the value to write: it wins (one defect, one finding)
+                restates=(("plastic-yield", mat.key, blk.loc.line, t), ("units", mat.name, ("yield",))))

@@ -4,6 +4,7 @@ import pytest
 
 from linter.physics import plastic as P
 from builders import Deck
+from linter.config import Config
 
 PLASTIC_RULES = ("plastic/first-strain-not-zero", "plastic/strain-not-increasing", "plastic/softening",
                  "plastic/total-strain-given", "plastic/zero-yield", "plastic/yield-vs-modulus")
@@ -100,9 +101,13 @@ def test_zero_yield_error_and_creep_warning():
 
 def test_yield_vs_modulus_units_and_class():
     # yield stress in Pa with E in MPa: 2.5e8/210000 = 1190
-    found = _deck([(2.5e8, 0), (3e8, 0.1)]).run("plastic/yield-vs-modulus")
+    pa = _deck([(2.5e8, 0), (3e8, 0.1)])
+    found = pa.run("plastic/yield-vs-modulus", config=Config(rules={"units/mismatch": "off"}))
     assert len(found) == 1 and found[0].data["material_class"] == "metal"
     assert found[0].data["yield_strain"] == pytest.approx(2.5e8 / 210000)
+    # with the units rule on, it names the slip (with the value to write): one defect, one finding
+    both = [f.rule for f in pa.run("plastic/yield-vs-modulus", "units/mismatch")]
+    assert len(both) == 1
     # S355 steel (EN 1993-1-1, physics.md 4: 1.69e-3) is inside the metal band
     assert _deck([(355, 0), (400, 0.1)]).run("plastic/yield-vs-modulus") == []
     # 0.03 is too much for a metal, fine for a polymer (PA66-like E = 3000, rho = 1.14e-9; physics.md 5.5)
@@ -113,16 +118,31 @@ def test_yield_vs_modulus_units_and_class():
     assert _deck([(0, 0), (300, 0.1)]).run("plastic/yield-vs-modulus") == []
 
 
+def _mats1(points, e=210000.0):
+    """Options and rows as the bulk parser gives them: raw TABLES1 points, rows converted with E."""
+    opts = {"card": "MATS1", "TYPE": "PLASTIC", "TID": "5", "points": tuple(points), "x_axis_total_strain": True}
+    rows = [(y, max(x - y / e, 0.0)) for x, y in points if (x, y) != (0.0, 0.0)]
+    return rows, opts
+
+
 def test_bulk_total_strain_table_is_checked_as_a_curve_from_the_origin():
-    opts = {"card": "MATS1", "TYPE": "PLASTIC", "x_total_strain": True}
-    ok = [(0, 0), (210, 0.001), (300, 0.05)]
-    d = _deck(ok, fmt="bulk", options=opts)
-    assert d.run(*PLASTIC_RULES) == []
-    found = _deck([(210, 0.001), (300, 0.05)], fmt="bulk", options=opts).run(*PLASTIC_RULES)
+    # formats.md 5.3 / physics.md 4: a TABLES1 stress-strain curve starts at the origin, the second point
+    # is the initial yield point
+    rows, opts = _mats1([(0.0, 0.0), (0.001, 210.0), (0.05, 300.0)])
+    assert _deck(rows, fmt="bulk", options=opts).run(*PLASTIC_RULES) == []
+    rows, opts = _mats1([(0.001, 210.0), (0.05, 300.0)])
+    found = _deck(rows, fmt="bulk", options=opts).run(*PLASTIC_RULES)
     assert _rules(found) == ["plastic/first-strain-not-zero"]
     assert found[0].data["total_strain"] is True
-    zero = _deck([(0, 0), (0, 0.001), (300, 0.05)], fmt="bulk", options=opts).run("plastic/zero-yield")
+    rows, opts = _mats1([(0.0, 0.0), (0.001, 0.0), (0.05, 300.0)])
+    zero = _deck(rows, fmt="bulk", options=opts).run("plastic/zero-yield")
     assert len(zero) == 1 and zero[0].data["yield_stress"] == 0.0
+    rows, opts = _mats1([(0.0, 0.0), (0.001, 210.0), (0.05, 300.0), (0.04, 310.0)])
+    found = _deck(rows, fmt="bulk", options=opts).run(*PLASTIC_RULES)
+    assert _rules(found) == ["plastic/strain-not-increasing"]
+    # the x axis is declared total strain: it is not reported as looking like total strain
+    rows, opts = _mats1([(0.0, 0.0), (0.001, 210.0), (0.05, 300.0)])
+    assert _deck(rows, fmt="bulk", options=opts).run("plastic/total-strain-given") == []
 
 
 def test_johnson_cook_constants_are_not_a_table():
@@ -177,6 +197,30 @@ def test_corpus_decks_have_no_plastic_errors(corpus_dir):
     assert any(f.rule == "plastic/zero-yield" and f.data["with_creep"] for f in found)
 
 
+def test_end_to_end_bulk_mats1(write_deck):
+    pytest.importorskip("linter.parsers.bulk")
+    from linter.check import check_paths
+
+    path = write_deck("pl.bdf", """SOL 106
+CEND
+BEGIN BULK
+GRID,1,,0.,0.,0.
+GRID,2,,10.,0.,0.
+GRID,3,,10.,10.,0.
+GRID,4,,0.,10.,0.
+CQUAD4,1,1,1,2,3,4
+PSHELL,1,7,2.0,7
+MAT1,7,200000.,,0.3,7.85e-9
+MATS1,7,5,PLASTIC
+TABLES1,5
+,0.,0.,0.00125,250.,0.05,300.,0.1,280.
+,ENDT
+ENDDATA
+""")
+    found = [f for f in check_paths([str(path)]).findings if f.rule.startswith("plastic/")]
+    assert [(f.rule, f.line) for f in found] == [("plastic/softening", 11)]   # the MATS1 line
+
+
 def test_bulk_mats1_given_by_slope():
     # formats.md 5.3: MATS1 with H (work-hardening slope) and LIMIT1 (initial yield stress) and no table
     base = {"card": "MATS1", "TYPE": "PLASTIC"}
@@ -186,7 +230,8 @@ def test_bulk_mats1_given_by_slope():
     assert [f.rule for f in soft] == ["plastic/softening"] and soft[0].data["H"] == -500.0
     zero = _deck([], fmt="bulk", options={**base, "H": 1000.0, "LIMIT1": 0.0}).run(*PLASTIC_RULES)
     assert [f.rule for f in zero] == ["plastic/zero-yield"]
-    pa = _deck([], fmt="bulk", options={**base, "H": 1000.0, "LIMIT1": 2.5e8}).run(*PLASTIC_RULES)
+    pa = _deck([], fmt="bulk", options={**base, "H": 1000.0, "LIMIT1": 2.5e8}).run(
+        *PLASTIC_RULES, config=Config(rules={"units/mismatch": "off"}))
     assert [f.rule for f in pa] == ["plastic/yield-vs-modulus"]
     nlelast = _deck([(0, 0), (100, 0.001)], fmt="bulk", options={**base, "TYPE": "NLELAST"})
     assert nlelast.run(*PLASTIC_RULES) == []
