@@ -122,7 +122,8 @@ def _step_words(step, proc) -> str:
       rationale="Frequency, dynamic and transient heat-transfer analyses need mass (density); gravity and "
                 "centrifugal loads need it to load the structure. Without it the solver stops, or the "
                 "material's elements carry no mass or load. A body load on a material without density is a "
-                "warning, and an error where CalculiX stops because no material has a density.",
+                "warning (a note when point masses carry it), and an error where CalculiX stops because no "
+                "material has a density.",
       references=(CCX_MAT, NAS_SOL), data="need (mass|transient_thermal|body_load), step, line, "
            "other_mass_sources (count of mass sources not on these elements)")
 def missing_density(model, ctx):
@@ -162,12 +163,19 @@ def missing_density(model, ctx):
                     continue
                 if has_positive(mat, "density", "rho"):
                     continue
+                covered, others = mass_cover(model, mat.key)
+                if covered:
+                    continue
                 reported.add(mat.key)
+                sev, extra = ("error" if ccx_stop else "warning"), ccx_stop
+                if others:  # lumped masses carry the load (a common modelling choice): a note
+                    sev = "note"
+                    extra = f"; the load acts on the model's {len(others)} other mass source(s) (point masses)"
                 yield ctx.finding(
                     f"material {mat.name} has no density, so the {load.kind} load of step {step.name} (line "
-                    f"{load.loc.line}) puts no load on its elements{ccx_stop}", mat.loc, material=mat.name,
-                    severity="error" if ccx_stop else "warning", data={"need": "body_load", "step": step.name, "line": load.loc.line,
-                                              "other_mass_sources": 0})
+                    f"{load.loc.line}) puts no load on its elements{extra}", mat.loc, material=mat.name,
+                    severity=sev, data={"need": "body_load", "step": step.name, "line": load.loc.line,
+                                        "other_mass_sources": len(others)})
 
 
 def _simple_need(model, ctx, need: str, kind: str, column: str, words: str, skip=None):

@@ -69,6 +69,10 @@ def test_static_steps_do_not_need_density_but_gravity_warns():
     bulk = _deck("bulk", elset="PID 1", elastic=[(210000.0, 0.3)])
     _step(bulk, "static", loads=[_load("gravity", 9810.0)], card="SOL 101")
     assert [f.severity for f in bulk.run("analysis/missing-density")] == ["warning"]
+    # massless bars carrying point masses (CONM2) under RFORCE: the masses take the load, a note
+    bulk.model.mass_sources.append(MassSource(kind="point-mass", loc=Loc("deck.bdf", 51), target=None))
+    found = bulk.run("analysis/missing-density")
+    assert [f.severity for f in found] == ["note"] and "point masses" in found[0].message
     # a centrifugal load on another set does not touch this material
     other = _deck(elastic=[(210000.0, 0.3)])
     other.elset("ELSEWHERE")
