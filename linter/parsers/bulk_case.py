@@ -113,7 +113,7 @@ def build_steps(model: DeckModel, cc: CaseControl, loads: dict[str, list[Load]],
             tsid = _sid(merged.get(key, ""))
             if tsid:
                 any_temp_selection = True
-                step.loads.extend(temps.get(tsid, ()) + tempd.get(tsid, []))
+                step.loads.extend(temps.get(tsid, []) + tempd.get(tsid, []))
                 break
         for key in ("TEMP(INIT)", "TEMP(BOTH)", "TEMP(MATERIAL)"):
             isid = _sid(merged.get(key, ""))
@@ -122,7 +122,7 @@ def build_steps(model: DeckModel, cc: CaseControl, loads: dict[str, list[Load]],
                 init_sids.add(isid)
         model.steps.append(step)
     for sid in init_sids:
-        model.initial_temperatures.extend(temps.get(sid, ()) + tempd.get(sid, []))
+        model.initial_temperatures.extend(temps.get(sid, []) + tempd.get(sid, []))
     if not any_temp_selection:
         for lst in tempd.values():
             model.initial_temperatures.extend(lst)

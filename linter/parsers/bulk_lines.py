@@ -42,7 +42,8 @@ def classify(lines: Lines, lo: int, hi: int):
     """For physical lines lo..hi-1: (kept line indices, head mask over kept, names of heads (S8), large mask of heads).
 
     Kept lines are the non-blank ones; a head starts an entry, the others continue it.
-    Names are upper-cased, cut at the first comma or blank, without the large-field ``*``.
+    Names are upper-cased, cut at the first comma or blank, without the large-field ``*`` (NUL-padded,
+    so ``names == b"GRID"`` works).
     """
     idx = np.arange(lo, hi, dtype=np.int64)
     ls, le = lines.ls[idx], lines.le[idx]
@@ -58,13 +59,27 @@ def classify(lines: Lines, lo: int, hi: int):
     idx, first8, blank8 = idx[keep], first8[keep], blank8[keep]
     c0 = first8[:, 0]
     cont = blank8 | (c0 == PLUS) | (c0 == STAR) | (c0 == COMMA) | (c0 == SPACE)
+    # an indented free-field entry ("  PARAM, POST,-1"): a word, then a comma
+    indented = np.flatnonzero((c0 == SPACE) & ~blank8)
+    shifted = {}
+    for i in indented:
+        raw = bytes(lines.buf[lines.ls[idx[i]]:lines.le[idx[i]]])
+        word = raw.lstrip()[:9]
+        name = word.split(b",")[0].strip()
+        if name[:1].isalpha() and b"," in word and len(name) <= 8:
+            cont[i] = False
+            shifted[i] = name.upper()
     head = ~cont
     f8 = first8[head].copy()
+    if shifted:
+        pos = np.cumsum(head) - 1
+        for i, name in shifted.items():
+            f8[pos[i]] = np.frombuffer(name.ljust(8), dtype=np.uint8)
     delim = (f8 == COMMA) | (f8 == SPACE)
     stop = np.where(delim.any(axis=1), delim.argmax(axis=1), 8)
-    f8[np.arange(8)[None, :] >= stop[:, None]] = SPACE
+    f8[np.arange(8)[None, :] >= stop[:, None]] = 0
     large = (f8 == STAR).any(axis=1)
-    f8[f8 == STAR] = SPACE
+    f8[f8 == STAR] = 0
     low = (f8 >= 97) & (f8 <= 122)
     f8[low] -= 32
     names = np.ascontiguousarray(f8).view("S8").ravel()
