@@ -107,8 +107,9 @@ class Builder:
         blanks: list[int] = []
         e, g, nu = E, G, NU
         if E is None and G is None:
-            self.issue("malformed-data", f"MAT1 {m}: E and G are both blank; the solver stops "
-                       "(one of E or G must be given)", card, m, field="E/G")
+            if not card.s(3) and not card.s(4):
+                self.issue("malformed-data", f"MAT1 {m}: E and G are both blank; the solver stops "
+                           "(one of E or G must be given)", card, m, field="E/G")
             e, g, nu, blanks = 0.0, 0.0, (NU or 0.0), [0, 1] if NU is None else [0]
         elif G is None and NU is None:
             g, nu, blanks = 0.0, 0.0, [1]
