@@ -510,3 +510,18 @@ def test_keyword_mesh_numbers_out_of_range(write_deck, extra):
     r = run([p])      # run() fails on any internal/* finding
     assert [m["name"] for m in r.files[0].materials] == ["STEEL"]
     assert not r.files[0].incomplete
+
+
+@pytest.mark.parametrize("extra", [
+    "GRID*,1111111111111111111111111111111111111111\n",          # large-field name, id beyond 64 bits
+    "GRID," + "9" * 30 + ",,0.,0.,0.\n",
+    "GRID,9,,1.2.3,--5,0.\n",
+    "CHEXA,2,1,1,2,3,4,5,6,+\n+,7," + "8" * 25 + "\n",
+    "PSOLID," + "3" * 25 + "," + "1" * 25 + "\n",
+])
+def test_bulk_mesh_numbers_out_of_range(write_deck, extra):
+    need("bulk")
+    p = write_deck("mesh.bdf", bulk(extra=extra))
+    r = run([p])      # run() fails on any internal/* finding
+    assert len(r.files[0].materials) == 1
+    assert not r.files[0].incomplete
