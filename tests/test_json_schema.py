@@ -104,3 +104,28 @@ def test_real_deck_report_is_valid(validator, write_deck, monkeypatch):
     assert [m["name"] for m in doc["files"][0]["materials"]] == ["AL"]
     # nu = 0.7 is outside -1 < nu < 0.5 (admissible range of isotropic elasticity, physics.md 1.2)
     assert any(f["rule"].startswith("elastic/") and f["line"] == 10 for f in doc["findings"])
+
+
+@pytest.mark.corpus
+def test_corpus_reports_are_valid(validator, corpus_dir, sarif_schema_path):
+    """Every reporter on real decks written by others: JSON and SARIF valid, line report one line per finding."""
+    pytest.importorskip("linter.parsers.keyword")
+    decks = sorted(str(p) for p in (corpus_dir / "keyword").glob("*.inp"))[::2]
+    decks += sorted(str(p) for p in (corpus_dir / "bulk").glob("*.DAT"))[::6]
+    if not decks:
+        pytest.skip("corpus holds no decks")
+    result = check_paths(decks, Config(), jobs=2)
+    doc = render(result)
+    validator.validate(doc)
+    assert len(doc["files"]) == len(decks)
+    sarif = jsonschema.Draft7Validator(json.loads(sarif_schema_path.read_text(encoding="utf-8")))
+    out = io.StringIO()
+    get("sarif")(result, out, None)
+    sarif.validate(json.loads(out.getvalue()))
+    out = io.StringIO()
+    get("line")(result, out, None)
+    assert len(out.getvalue().splitlines()) == len(result.findings)
+    for name in ("text", "audit"):
+        out = io.StringIO()
+        get(name)(result, out, {"color": False})
+        assert "\x1b" not in out.getvalue() and CAUTION[:40] in out.getvalue().replace("\n", " ")
