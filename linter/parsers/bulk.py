@@ -38,6 +38,8 @@ ELEMENTS = {
     "CTRIAR": (3, ()), "CBAR": (2, ()), "CBEAM": (2, ()), "CROD": (2, ()), "CSHEAR": (4, ()),
 }
 FAST = set(ELEMENTS) | {"GRID"}
+#: cards read column-wise at a time
+CHUNK = 200_000
 _BEGIN = re.compile(rb"(?im)^[ \t]*BEGIN[ \t]+BULK")
 _END = re.compile(rb"(?im)^[ \t]*ENDDATA")
 _INCLUDE = re.compile(rb"(?im)^INCLUDE")
@@ -279,28 +281,28 @@ def _fast(st, name, lines, idx, heads, nl, large, display) -> Optional[np.ndarra
     slow = np.zeros(heads.size, dtype=bool)
     slow |= large
     for m in np.unique(nl):
-        sel = np.flatnonzero((nl == m) & ~large)
-        if sel.size == 0:
-            continue
-        rows = idx[heads[sel][:, None] + np.arange(m)]
-        star = lines.buf[np.minimum(lines.ls[rows[:, 1:]], lines.buf.size - 1)] == 42 if m > 1 else None
-        free = is_free(lines, rows.ravel()).reshape(rows.shape)
-        nostar = ~star.any(axis=1) if star is not None else np.ones(sel.size, dtype=bool)
-        handled = np.zeros(sel.size, dtype=bool)
-        for fr in (True, False):
-            ok = (free.all(axis=1) if fr else ~free.any(axis=1)) & nostar
-            if ok.any():
-                part = _Part(lines, rows[ok], fr, display)
-                (_grid_cols if name == "GRID" else _elem_cols)(st, name, part)
-                st.parts.setdefault(name, []).append(part)
-            handled |= ok
-        slow[sel[~handled]] = True
+        allsel = np.flatnonzero((nl == m) & ~large)
+        for c0 in range(0, allsel.size, CHUNK):     # bounded temporaries on large decks
+            sel = allsel[c0:c0 + CHUNK]
+            rows = idx[heads[sel][:, None] + np.arange(m)]
+            star = lines.buf[np.minimum(lines.ls[rows[:, 1:]], lines.buf.size - 1)] == 42 if m > 1 else None
+            free = is_free(lines, rows.ravel()).reshape(rows.shape)
+            nostar = ~star.any(axis=1) if star is not None else np.ones(sel.size, dtype=bool)
+            handled = np.zeros(sel.size, dtype=bool)
+            for fr in (True, False):
+                ok = (free.all(axis=1) if fr else ~free.any(axis=1)) & nostar
+                if ok.any():
+                    part = _Part(lines, rows[ok], fr, display)
+                    (_grid_cols if name == "GRID" else _elem_cols)(st, name, part)
+                    st.parts.setdefault(name, []).append(part)
+                handled |= ok
+            slow[sel[~handled]] = True
     return np.flatnonzero(slow)
 
 
-def _fields(part: _Part, rows: Optional[np.ndarray] = None):
+def _fields(part: _Part, rows: Optional[np.ndarray] = None, nf: int = 8):
     r = part.rows if rows is None else part.rows[rows]
-    s, e = data_fields(part.lines, r.ravel(), part.free)
+    s, e = data_fields(part.lines, r.ravel(), part.free, nf if r.shape[1] == 1 else 8)
     n = r.shape[0]
     return s.reshape(n, -1), e.reshape(n, -1)
 
@@ -334,7 +336,7 @@ def _elem_cols(st, name, part: _Part) -> None:
 
 
 def _grid_cols(st, name, part: _Part) -> None:
-    s, e = _fields(part)
+    s, e = _fields(part, nf=5)
     buf = part.lines.buf
     gid, _b, bad = vec_int(buf, s[:, 0], e[:, 0])
     _bad(st, part, bad, "GRID id")

@@ -91,17 +91,21 @@ def continuation_marker(line: str, large: bool) -> str:
 # --------------------------------------------------------------------------- vectorised
 
 
+PAD = 128   # blanks the line table appends to the buffer, so that windows never run past its end
+
+
 def gather(buf: np.ndarray, start: np.ndarray, end: np.ndarray, width: int) -> np.ndarray:
-    """(n, width) uint8 matrix of the bytes buf[start:end] per row, padded with blanks (truncated to width)."""
+    """(n, width) uint8 matrix of the bytes buf[start:end] per row, padded with blanks (truncated to width).
+
+    ``buf`` must end with at least ``width`` spare bytes (see ``PAD``); rows are copied
+    from a sliding-window view, without an index matrix.
+    """
     n = start.shape[0]
     if n == 0:
         return np.zeros((0, width), dtype=np.uint8)
-    cols = np.arange(width, dtype=np.int64)
-    idx = start[:, None].astype(np.int64) + cols
-    valid = idx < end[:, None]
-    np.minimum(idx, buf.shape[0] - 1, out=idx)
-    out = buf[idx]
-    out[~valid] = 32
+    win = np.lib.stride_tricks.sliding_window_view(buf, width)
+    out = win[np.minimum(start, win.shape[0] - 1)]
+    out[np.arange(width)[None, :] >= (end - start)[:, None]] = 32
     return out
 
 

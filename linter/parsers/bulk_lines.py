@@ -11,7 +11,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .bulk_fields import gather
+from .bulk_fields import PAD, gather
 
 COMMA, SPACE, STAR, PLUS, DOLLAR = 44, 32, 42, 43, 36
 
@@ -21,11 +21,10 @@ class Lines:
     buf: np.ndarray          # uint8 view of the file bytes
     ls: np.ndarray           # start offset of every physical line
     le: np.ndarray           # end offset (exclusive), comment cut off
-    commas: np.ndarray       # offsets of every comma in the file
 
 
 def line_table(data: bytes) -> Lines:
-    buf = np.frombuffer(data, dtype=np.uint8)
+    buf = np.frombuffer(data + b" " * PAD, dtype=np.uint8)
     nl = np.flatnonzero(buf == 10)
     ls = np.concatenate(([0], nl + 1)).astype(np.int64)
     le = np.concatenate((nl, [len(data)])).astype(np.int64)
@@ -35,7 +34,7 @@ def line_table(data: bytes) -> Lines:
         kk = np.minimum(k, dollars.size - 1)
         cut = (k < dollars.size) & (dollars[kk] < le)
         le = np.where(cut, dollars[kk], le)
-    return Lines(buf, ls, le, np.flatnonzero(buf == COMMA))
+    return Lines(buf, ls, le)
 
 
 def classify(lines: Lines, lo: int, hi: int):
@@ -53,7 +52,7 @@ def classify(lines: Lines, lo: int, hi: int):
     empty = blank8 & (length <= 8)
     maybe = np.flatnonzero(blank8 & (length > 8))
     if maybe.size:
-        rest = gather(lines.buf, ls[maybe] + 8, le[maybe], 80)
+        rest = gather(lines.buf, ls[maybe] + 8, le[maybe], 72)
         empty[maybe[(rest == SPACE).all(axis=1)]] = True
     keep = ~empty
     idx, first8, blank8 = idx[keep], first8[keep], blank8[keep]
@@ -86,26 +85,37 @@ def classify(lines: Lines, lo: int, hi: int):
     return idx, head, names, large
 
 
-def data_fields(lines: Lines, rows: np.ndarray, free: bool) -> tuple[np.ndarray, np.ndarray]:
-    """Start/end offsets (n, 8) of the 8 small-field data fields (2-9) of physical lines ``rows``."""
+def _commas(lines: Lines, ls: np.ndarray, le: np.ndarray) -> np.ndarray:
+    """Offsets of the commas between the first start and the last end (rows are in file order)."""
+    if ls.size == 0:
+        return np.zeros(0, dtype=np.int64)
+    a, b = int(ls.min()), int(le.max())
+    return np.flatnonzero(lines.buf[a:b] == COMMA) + a
+
+
+def data_fields(lines: Lines, rows: np.ndarray, free: bool, nf: int = 8) -> tuple[np.ndarray, np.ndarray]:
+    """Start/end offsets (n, nf) of the first nf small-field data fields (2-9) of physical lines ``rows``."""
     ls, le = lines.ls[rows], lines.le[rows]
     if not free:
-        st = ls[:, None] + 8 + 8 * np.arange(8, dtype=np.int64)[None, :]
+        st = ls[:, None] + 8 + 8 * np.arange(nf, dtype=np.int64)[None, :]
         en = np.minimum(st + 8, le[:, None])
         st = np.minimum(st, le[:, None])
         return st, en
-    commas = lines.commas
+    commas = _commas(lines, ls, le)
     c0 = np.searchsorted(commas, ls)
     cn = np.searchsorted(commas, le) - c0
-    j = np.arange(9, dtype=np.int64)[None, :]
-    ci = np.minimum(c0[:, None] + j, max(commas.size - 1, 0))
-    pos = np.where(j < cn[:, None], commas[ci] if commas.size else 0, le[:, None])
-    st = np.minimum(pos[:, :8] + 1, le[:, None])
+    j = np.arange(nf + 1, dtype=np.int64)[None, :]
+    if commas.size == 0:
+        pos = np.broadcast_to(le[:, None], (ls.size, nf + 1))
+    else:
+        ci = np.minimum(c0[:, None] + j, commas.size - 1)
+        pos = np.where(j < cn[:, None], commas[ci], le[:, None])
+    st = np.minimum(pos[:, :nf] + 1, le[:, None])
     en = pos[:, 1:]
     return st, en
 
 
 def is_free(lines: Lines, rows: np.ndarray) -> np.ndarray:
     ls, le = lines.ls[rows], lines.le[rows]
-    commas = lines.commas
+    commas = _commas(lines, ls, le)
     return np.searchsorted(commas, le) > np.searchsorted(commas, ls)
