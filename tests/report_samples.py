@@ -11,7 +11,8 @@ HOSTILE_MESSAGE = "nu = 0.7\nfake.inp:1: error: parse/x: forged <script>alert(1)
 
 def hostile_result() -> RunResult:
     mat = {"name": HOSTILE_NAME, "path": "model/parts.inp", "line": 3, "properties": ["elastic", "density"],
-           "derived": {"elastic": [{"G": 80769.2, "K": float("inf"), "lambda": float("nan")}]}}
+           "derived": {"elastic": [{"G": 80769.2, "K": float("inf"), "lambda": float("nan")}]},
+           "used_by": {"C3D10": 1200}}
     findings = [
         Finding("elastic/poisson-out-of-range", "error", HOSTILE_MESSAGE, "model/parts.inp", 5,
                 material=HOSTILE_NAME, data={"nu": 0.7, "K": float("-inf"), "ratio": float("nan"),

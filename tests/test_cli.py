@@ -216,3 +216,13 @@ def test_importing_cli_stays_light():
     proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, env=_env(), timeout=60)
     assert proc.returncode == 0, proc.stderr
     assert proc.stdout.strip() == ""
+
+
+def test_console_script(decks):
+    script = Path(sys.executable).parent / ("deckwarden.exe" if os.name == "nt" else "deckwarden")
+    if not script.is_file():
+        pytest.skip("the deckwarden console script is not installed in this environment")
+    proc = subprocess.run([str(script), "check", "bad.inp", "--format", "line"], cwd=decks, capture_output=True,
+                          text=True, timeout=120)
+    assert proc.returncode == 1, proc.stderr
+    assert proc.stdout.startswith("bad.inp:10: error: elastic/")

@@ -118,6 +118,13 @@ def test_audit_is_literal_markdown():
     assert md.index("### Errors") < md.index("### Warnings") < md.index("### Notes")
     assert "- \\*CREEP (no rule yet): 2 at model/parts.inp:9, model/parts.inp:19" in md
     assert "G = 8.077e+04" in md
+    assert "| elastic, density | G = 8.077e+04 | C3D10 × 1200 |" in md
+
+
+def test_text_shows_usage_when_known():
+    text = render("text", hostile_result(), color=False)
+    assert "used by" in text and "C3D10 x1200" in text
+    assert "used by" not in render("text", clean_result(), color=False)
 
 
 def test_audit_escapes_leading_list_markers():

@@ -64,16 +64,19 @@ def _materials_table(materials):
     from rich.table import Table
     from rich.text import Text
 
+    materials = [m for m in materials if isinstance(m, dict)]
+    usage = any(isinstance(m.get("used_by"), dict) for m in materials)
     table = Table(show_header=True, header_style="bold", box=None, pad_edge=False)
-    for col in ("material", "defined at", "properties", "derived"):
+    for col in ("material", "defined at", "properties", "derived") + (("used by",) if usage else ()):
         table.add_column(col, overflow="fold")
     for m in materials:
-        if not isinstance(m, dict):
-            continue
         props = ", ".join(visible(p) for p in m.get("properties") or ()) or "-"
         nums = ", ".join(f"{visible(k)}={v}" for k, v in key_numbers(m.get("derived") or {})) or "-"
-        table.add_row(Text(visible(m.get("name"))), Text(where(m.get("path"), m.get("line"))), Text(props),
-                      Text(nums))
+        row = [Text(visible(m.get("name"))), Text(where(m.get("path"), m.get("line"))), Text(props), Text(nums)]
+        if usage:
+            used = m.get("used_by") if isinstance(m.get("used_by"), dict) else {}
+            row.append(Text(", ".join(f"{visible(k)} x{visible(v)}" for k, v in used.items()) or "unused"))
+        table.add_row(*row)
     return table
 
 
