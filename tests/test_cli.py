@@ -225,4 +225,4 @@ def test_console_script(decks):
     proc = subprocess.run([str(script), "check", "bad.inp", "--format", "line"], cwd=decks, capture_output=True,
                           text=True, timeout=120)
     assert proc.returncode == 1, proc.stderr
-    assert proc.stdout.startswith("bad.inp:10: error: elastic/")
+    assert re.search(r"^bad\.inp:10: error: elastic/", proc.stdout, re.M)
