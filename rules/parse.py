@@ -85,7 +85,12 @@ def _make(code, severity, title, rationale, refs):
             if iss.code == _code:
                 sev = iss.data.get("severity") if isinstance(iss.data, dict) else None
                 data = {k: v for k, v in iss.data.items() if k != "severity"}
-                defect = ("include", iss.data.get("include")) if "include" in _code else None
+                if "include" in _code:
+                    defect = ("include", iss.data.get("include"))
+                elif _code == "empty-field":
+                    defect = ("empty-field", iss.loc.path, iss.loc.line)
+                else:
+                    defect = None
                 yield ctx.finding(iss.message, iss.loc, material=iss.material, data=data, severity=sev,
                                   defect=defect)
 
