@@ -96,6 +96,11 @@ def _config(args):
             fmt, _, name = item.partition("=")
             if not fmt.strip() or not name.strip():
                 raise UsageError(f"--dialect {item!r}: expected NAME or FORMAT=NAME")
+            from . import parsers
+
+            if fmt.strip().lower() not in parsers.names():
+                raise UsageError(f"--dialect {item!r}: unknown format {fmt.strip()!r} "
+                                 f"(formats: {', '.join(parsers.names())})")
             cfg.dialects[fmt.strip().lower()] = name.strip().lower()
         elif item.strip():
             cfg.dialects = {k: item.strip().lower() for k in cfg.dialects}

@@ -78,6 +78,7 @@ def test_exit_2_not_a_deck(decks, capsys):
                                   ["check", "x.inp", "--format", "xml"], ["frobnicate"], [],
                                   ["check", "good.inp", "--select", "elastik"],
                                   ["check", "good.inp", "--dialect", "keyword="],
+                                  ["check", "good.inp", "--dialect", "abaqus=standard"],
                                   ["check", "good.inp", "--include-root", "no-such-folder"]])
 def test_exit_2_usage_errors(decks, capsys, args):
     code, out, err = run(args, capsys)
@@ -103,6 +104,13 @@ def test_config_fail_on_and_cli_override(decks, capsys, write_deck):
     code, _, _ = run(["check", "bad.inp", "--config", "strict.yaml", "--fail-on", "error", "--units", "mm-tonne-s",
                       "--ignore", "units"], capsys)
     assert code == 0
+
+
+def test_dialect_option_reaches_the_report(decks, capsys):
+    code, out, _ = run(["check", "good.inp", "--dialect", "keyword=calculix", "--format", "json"], capsys)
+    assert json.loads(out)["files"][0]["dialect"] == "calculix"
+    code, out, _ = run(["check", "good.inp", "--dialect", "mydialect", "--format", "json"], capsys)
+    assert json.loads(out)["files"][0]["dialect"] == "mydialect"
 
 
 def test_exit_2_internal_failure(decks, capsys, monkeypatch):
