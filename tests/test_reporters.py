@@ -142,3 +142,27 @@ def test_name_is_not_interpreted_as_markup_anywhere():
         out = render(name, hostile_result(), color=False)
         assert "\x1b" not in out, name
         assert "STEEL" in out and HOSTILE_NAME not in out, name   # the raw escape never reaches the output
+
+
+from hypothesis import given, settings, strategies as st  # noqa: E402
+
+from linter.findings import FileReport, Finding  # noqa: E402
+
+
+def _one_finding(text: str) -> RunResult:
+    f = Finding("model/undefined-material", "warning", text, f"d{text}.inp", 3, material=text)
+    return RunResult(files=[FileReport(path=f"d{text}.inp", format="keyword", dialect="calculix",
+                                       materials=[{"name": text, "path": "d.inp", "line": 1}], findings=[f])])
+
+
+@settings(max_examples=150, deadline=None)
+@given(st.text(min_size=1, max_size=40))
+def test_any_deck_string_stays_on_its_line(text):
+    """Whatever a deck string holds, the line report has one line and no control character in it."""
+    out = render("line", _one_finding(text))
+    assert out.count("\n") == 1 and out.endswith("\n")
+    assert not any((ord(ch) < 0x20 and ch != "\n") or 0x7F <= ord(ch) < 0xA0 for ch in out)
+    assert "\x1b" not in out and "\r" not in out and "\u2028" not in out and "\u202e" not in out
+    md = render("audit", _one_finding(text))
+    empty = render("audit", _one_finding("x"))
+    assert md.count("\n") == empty.count("\n")       # a deck string never adds a line to the audit report
