@@ -190,10 +190,12 @@ def _simple_need(model, ctx, need: str, kind: str, column: str, words: str, skip
 
 @rule("analysis/missing-conductivity", severity="error",
       title="A heat-transfer step needs a conductivity the material does not have",
-      rationale="Heat conduction needs the thermal conductivity of every material that conducts.",
+      rationale="Heat conduction needs the thermal conductivity of every material that conducts. Materials "
+                "used only on fluid or network elements take their fluid properties from *FLUID CONSTANTS "
+                "and are not checked.",
       references=(CCX_MAT, NAS_SOL), data="step, line")
 def missing_conductivity(model, ctx):
-    yield from _simple_need(model, ctx, "thermal", "conductivity", "", "thermal conductivity")
+    yield from _simple_need(model, ctx, "thermal", "conductivity", "", "thermal conductivity", skip=fluid_only)
 
 
 @rule("analysis/missing-specific-heat", severity="error",

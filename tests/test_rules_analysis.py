@@ -411,3 +411,32 @@ def test_end_to_end_bulk_deck(write_deck):
     assert len(found) == 1 and found[0].severity == "error" and found[0].line == 12   # the MAT1 line
     path = write_deck("bracket_rho.bdf", BULK.format(rho=",2.7e-9"))
     assert [f for f in check_paths([str(path)]).findings if f.rule == "analysis/missing-density"] == []
+
+
+def test_fluid_only_material_needs_no_conductivity(write_deck):
+    # common practice (CalculiX manual, *FLUID SECTION / *FLUID CONSTANTS): network fluid materials carry
+    # their properties in *FLUID CONSTANTS, so a heat-transfer step does not need a conductivity for them
+    from linter.check import check_paths
+
+    deck = write_deck("net.inp", """*NODE
+1, 0., 0., 0.
+2, 1., 0., 0.
+3, 2., 0., 0.
+*ELEMENT, TYPE=D, ELSET=PIPE
+1, 1, 2, 3
+*MATERIAL, NAME=WATER
+*FLUID CONSTANTS
+4.18e9, 1.0e-9
+*DENSITY
+1.0e-9
+*FLUID SECTION, ELSET=PIPE, MATERIAL=WATER, TYPE=PIPE MANNING
+1.0, 0.1, 0.01
+*MATERIAL, NAME=WALL
+*DENSITY
+7.8e-9
+*STEP
+*HEAT TRANSFER, STEADY STATE
+*END STEP
+""")
+    rules = [f.rule for f in check_paths([str(deck)]).files[0].findings]
+    assert "analysis/missing-conductivity" not in rules
