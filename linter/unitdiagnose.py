@@ -67,8 +67,9 @@ def diagnose_material(inf: Inference, ms: MaterialScore) -> list[Problem]:
     weight = _weight_density(inf, ms)
     if weight is not None:
         return [weight]
+    gap = float(data.scoring["slip_min_decades"])
     alts = [s for s in range(len(data.systems))
-            if ms.misfit[s] <= tol and not equivalent(data, s, ref, ms.dims)]
+            if ms.misfit[s] <= tol and ms.misfit[ref] - ms.misfit[s] >= gap and not equivalent(data, s, ref, ms.dims)]
     if alts:
         alt = min(alts, key=lambda s: (ms.misfit[s], data.systems[s].prior))
         cls = data.class_names[int(ms.best_class[alt])]
@@ -115,7 +116,7 @@ def _split(inf: Inference, ms: MaterialScore, loose_moduli: bool = False) -> Opt
             loose = loose_moduli and "moduli" in subset and all(
                 bad[q] or q in ("E", "K") and float(U.decades_outside(si[q][ref], data.lo[q][c], data.hi[q][c])) > 1.0
                 for q in qs)
-            if not (all(bad[q] for q in qs) or loose):
+            if not (_groups_bad(subset, bad, ev) or loose):
                 continue
             cost = pc[c] + 0.2 * (len(subset) - 1) + (0.1 if "moduli" in subset else 0.0) + \
                 0.01 * data.systems[alt].prior
@@ -144,9 +145,16 @@ def _split(inf: Inference, ms: MaterialScore, loose_moduli: bool = False) -> Opt
     wtm = ev.notes.get("WTMASS")
     if "rho" in qs and wtm is not None and wtm != 1.0:
         msg += f" (density = RHO {ev.notes.get('RHO', float('nan')):.4g} x WTMASS {wtm:.4g})"
-    return Problem("mismatch", _sev(ev, qs), msg, ev.locs.get(qs[0], ev.loc), ev.name,
+    # it matters when the analysis reads both sides of the disagreement
+    sev = "error" if _sev(ev, qs) == "error" and _sev(ev, rest) == "error" else "note"
+    return Problem("mismatch", sev, msg, ev.locs.get(qs[0], ev.loc), ev.name,
                    {"quantities": qs, "groups": list(subset), "fits": altname, "model": refname,
                     "class": data.class_names[c], "write": {q: _write(ev, q, alt, ref, data) for q in qs}})
+
+
+def _groups_bad(subset, bad: dict, ev) -> bool:
+    """Every moved group holds a value that is far outside every band as written."""
+    return all(any(bad.get(q, False) for q in GROUPS[g] if q in ev.values) for g in subset)
 
 
 def _implausible(inf: Inference, ms: MaterialScore, c: int, ref: int) -> list[Problem]:
@@ -156,6 +164,9 @@ def _implausible(inf: Inference, ms: MaterialScore, c: int, ref: int) -> list[Pr
     from .unitinfer import _derived
 
     si.update(_derived(si))
+    fit = np.all([~np.isnan(data.lo[q]) for q in ev.values], axis=0)
+    if fit.any() and not fit[c]:   # judge against a class that has a band for every quantity given
+        c = int(np.flatnonzero(fit)[np.argmin(ms.per_class[fit, ref])])
     cls = data.class_names[c]
     out, flagged_base = [], False
     for q in list(ev.values) + list(DERIVED):
@@ -198,6 +209,11 @@ def diagnose_gravity(inf: Inference) -> list[Problem]:
             continue
         if inf.ref is None and fits:
             continue
+        if not fits and inf.ref is not None:
+            n = g * acc[inf.ref] / g0
+            lf = data.model["load_factor"]
+            if float(lf[0]) <= n <= float(lf[1]):
+                continue         # standard gravity in no system: read as a load factor of n g
         if inf.ref is None:
             msg = f"gravity {g:.6g} fits no unit system (standard gravity is {g0} m/s^2)"
         else:
@@ -207,6 +223,8 @@ def diagnose_gravity(inf: Inference) -> list[Problem]:
                      if fits else "fits no unit system")
             msg = (f"gravity {g:.6g} {where} but the model is in {r.name}: "
                    f"write {expect:.6g} {r.label('acceleration')}")
+            if not fits:
+                msg += f" (as written it is {g * acc[inf.ref] / g0:.3g} g)"
         out.append(Problem("gravity", "warning", msg, loc, None,
                            {"value": g, "fits": fits, "model": data.systems[inf.ref].name if inf.ref is not None
                             else None, "expected": (g0 / acc[inf.ref]) if inf.ref is not None else None}))

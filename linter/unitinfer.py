@@ -11,8 +11,9 @@ Definitions (all numbers in ``linter/data/units.yaml``):
   judged against every class and the best is kept, so a soft rubber is read as a rubber, not as a slip.
 * **Model score** T(s) = prior_s + sum_m u_m min(R_m(s), material_cap) + gravity, mesh-size and
   absolute-zero misfits, where R_m = M_m, except for a material that no single system explains: then
-  R_m(s) = min(M_m(s), slip_penalty + best misfit with one or more non-modulus groups read in another
-  system) (the moduli anchor the system). u_m = 1, or ``unused_weight`` for a material no element uses.
+  R_m(s) = min(M_m(s), slip_penalty + misfit with one or more non-modulus groups read in another system),
+  counting only slips that explain the material (misfit <= material_tol) and move values that lie at least
+  ``slip_min_decades`` outside every band as written (the moduli anchor the system). u_m = 1, or ``unused_weight`` for a material no element uses.
 * The inferred system is argmin T. Systems that scale every quantity present in the evidence the same
   way are *equivalent* (the evidence cannot tell them apart); the **margin** is T of the best
   non-equivalent system minus T of the best, and **confidence** = margin / (1 + margin) (0: a tie, 0.5:
@@ -168,25 +169,26 @@ def score_material(ev: MaterialEvidence, data: UnitData) -> MaterialScore:
     if not consistent:
         # no single system explains the material: in each system s, read it as carrying a unit slip in
         # a group other than the moduli (the moduli anchor the system) when that explains it fully
-        # (misfit <= material_tol) and the slipped values fit no class as written; cost slip_penalty
+        # (misfit <= material_tol) and the slipped values are far outside every band; cost slip_penalty
         pen = float(data.scoring["slip_penalty"])
         bad = _slip_bad(ev, data)
         groups = [g for g in GROUPS if g != "moduli" and any(q in ev.values for q in GROUPS[g])]
-        best = mis.copy()
+        best = np.full_like(mis, np.inf)
         for subset in _subsets(groups):
             qs = [q for g in subset for q in GROUPS[g] if q in ev.values]
-            ok = np.all([bad[q] for q in qs], axis=0)
+            ok = np.all([np.any([bad[q] for q in GROUPS[g] if q in bad], axis=0) for g in subset], axis=0)
             for alt in set.intersection(*(set(data.slip_sources[g]) for g in subset)):
                 m = class_misfit(ev, data, {q: alt for q in qs}).min(axis=0)
                 best = np.where(ok & (m <= tol), np.minimum(best, m), best)
-        reading = best + pen
+        reading = np.minimum(mis, best + pen)
     dims = frozenset(QUANTITY_DIMENSION[q] for q in ev.values if QUANTITY_DIMENSION[q])
     return MaterialScore(ev, pc, mis, pc.argmin(axis=0), reading, consistent, dims)
 
 
 def _slip_bad(ev: MaterialEvidence, data: UnitData) -> dict[str, np.ndarray]:
-    """q -> (S,): the value of q read in system s fits no class that has a band for every quantity given."""
-    qtol = float(data.scoring["quantity_tol"])
+    """q -> (S,): the value of q read in system s lies ``slip_min_decades`` outside every class that has a
+    band for every quantity given."""
+    qtol = float(data.scoring["slip_min_decades"])
     fit = np.all([~np.isnan(data.lo[q]) for q in ev.values], axis=0)
     si = si_values(ev, data)
     return {q: np.all(U.decades_outside(si[q][None, :], data.lo[q][fit][:, None], data.hi[q][fit][:, None]) > qtol,
@@ -208,9 +210,14 @@ def _model_terms(evd: ModelEvidence, data: UnitData) -> tuple[np.ndarray, set]:
     dims = set()
     g0, gtol = float(md["gravity"]), float(md["gravity_rel_tol"])
     acc = data.scales("acceleration")
+    lf = md["load_factor"]
     for g, _loc in evd.gravity:
         d = U.decades_outside(g * acc, g0 * (1 - gtol), g0 * (1 + gtol))
-        total = total + float(sc["gravity_weight"]) * np.minimum(d, cap)
+        if np.any(d == 0):       # standard gravity in some system: strong evidence
+            total = total + float(sc["gravity_weight"]) * np.minimum(d, cap)
+        else:                    # a load factor times g, or arbitrary: only the load-factor band
+            d = U.decades_outside(g * acc, g0 * float(lf[0]), g0 * float(lf[1]))
+            total = total + float(sc["load_factor_weight"]) * np.minimum(d, cap)
         dims.add("acceleration")
     length = data.scales("length")
     for value, band in ((evd.model_size, md["model_size"]), (evd.element_size, md["element_size"])):

@@ -87,7 +87,7 @@ def test_gravity_that_fits_is_quiet(g):
 
 
 def test_gravity_that_fits_no_system():
-    found = run(model(material("S", **STEEL_MM), steps=("static",), gravity=1234.0))
+    found = run(model(material("S", **STEEL_MM), steps=("static",), gravity=1.0e6))   # 1000 m/s^2 = 102 g
     g = by_rule(found, "units/gravity")
     assert len(g) == 1 and g[0].data["fits"] == [] and "fits no unit system" in g[0].message
 
@@ -249,3 +249,12 @@ def test_weight_density_without_wtmass_is_named():
     assert len(mm) == 1 and mm[0].material == "ST" and mm[0].data["quantities"] == ["rho"]
     assert mm[0].data["fits"] == "weight density" and "WTMASS,0.00259" in mm[0].message
     assert mm[0].data["write"]["rho"] == pytest.approx(7.3454e-4, rel=1e-3)   # physics.md 5.2, in-lbf-s row
+
+
+def test_moduli_far_off_in_every_class_are_implausible_not_silent():
+    # E = 2.1e9 "MPa" (2.1e15 Pa) fits no class in any common system: a typing slip
+    found = run(model(material("S", **STEEL_MM), material("X", E=2.1e9, rho=7.85e-9, line=30),
+                      steps=("frequency",)))
+    bad = [f for f in found if f.material == "X"]
+    assert bad and all(f.rule in ("units/implausible", "units/mismatch") for f in bad)
+    assert any(f.data.get("quantity") == "E" or "E" in f.data.get("quantities", ()) for f in bad)
