@@ -37,7 +37,8 @@ def _rows_text(items: list[str]) -> str:
 def _entries(model):
     for mat in list(model.materials.values()) + list(model.duplicate_materials):
         for entry in mat.derived.get("aniso", ()):
-            yield mat, entry
+            if entry["part"] != "coupling":     # a coupling matrix (PSHELL MID4) may be indefinite
+                yield mat, entry
 
 
 def _where(mat, entry) -> str:

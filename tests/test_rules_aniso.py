@@ -137,6 +137,16 @@ def test_mat2_transverse_shear_uses_2x2_part():
     assert [f.rule for f in run(m)] == ["aniso/not-positive-definite"]
 
 
+def test_mat2_coupling_matrix_may_be_indefinite():
+    # membrane-bending coupling (PSHELL MID4) of an unsymmetric laminate has negative terms (common practice:
+    # the B matrix of classical lamination theory is not a stiffness and need not be positive definite)
+    vals = [(-1.25e10, 0.0, 0.0, -1.25e10, 0.0, -6.25e9)]
+    m = model_with(block("elastic", "mat2", vals, card="MAT2"), fmt="bulk", dialect="mystran",
+                   sections=[_shell("M", "coupling")])
+    assert run(m) == []
+    assert m.materials["M"].derived["aniso"][0]["part"] == "coupling"
+
+
 def test_mat8_transverse_shear_blank_is_rigid_zero_is_not():
     ply = (181.0, 10.3, 0.28, 7.17, math.nan, math.nan)
     m = model_with(block("elastic", "lamina", [ply], card="MAT8"), fmt="bulk", dialect="mystran",
@@ -271,3 +281,40 @@ def test_corpus_sweep_has_no_internal_failure_in_aniso(corpus_dir):
     bad = [f for f in res.findings if f.rule.startswith("internal/") and
            ("anisotropic" in f.message or f.data.get("failed_rule", "").startswith("aniso/"))]
     assert bad == []
+
+
+def test_end_to_end_bulk_deck(write_deck):
+    pytest.importorskip("linter.parsers.bulk")
+    # invented bracket: a PCOMP of a T300/5208-like ply in MPa (Tsai & Hahn 1980, physics.md 2.4) whose nu12 is past
+    # sqrt(E1/E2), a MAT2 used as transverse shear only (G33 ignored), a MAT9 solid with a blank CORDM
+    deck = write_deck("bracket.bdf", """SOL 101
+CEND
+BEGIN BULK
+GRID,1,,0.,0.,0.
+GRID,2,,1.,0.,0.
+GRID,3,,1.,1.,0.
+GRID,4,,0.,1.,0.
+GRID,5,,0.,0.,1.
+GRID,6,,1.,0.,1.
+GRID,7,,1.,1.,1.
+GRID,8,,0.,1.,1.
+CQUAD4,1,10,1,2,3,4
+CQUAD4,2,20,1,2,3,4
+CHEXA,3,30,1,2,3,4,5,6,+H1
++H1,7,8
+PCOMP,10
+,1,0.2,0.,,1,0.2,90.
+MAT8,1,181000.,10300.,4.5,7170.
+PSHELL,20,2,1.0,2,,3
+MAT1,2,70000.,,0.3
+MAT2,3,30000.,0.,-5.,30000.,0.,-1.
+PSOLID,30,4
+MAT9,4,1.+5,3.+4,3.+4,0.,0.,0.,2.+5,+M1
++M1,3.+4,0.,0.,0.,1.+5,0.,0.,0.,+M2
++M2,4.+4,0.,0.,4.+4,0.,4.+4
+ENDDATA
+""")
+    found = _check(deck, "aniso")
+    got = sorted((f.rule, f.line, f.material) for f in found)
+    assert got == [("aniso/constant-bounds", 18, "1"), ("aniso/missing-orientation", 22, "4")], got   # MAT8, PSOLID lines
+    assert "nu12^2 * E2/E1 = 1.152 >= 1" in found[[f.rule for f in found].index("aniso/constant-bounds")].message

@@ -3,7 +3,7 @@
 Fills ``Material.derived["aniso"]``: a list with one entry per anisotropic elastic block::
 
     {"block": <index in Material.blocks>, "form": "engineering", "card": "*ELASTIC", "line": 12,
-     "part": "full" | "transverse-shear",
+     "part": "full" | "transverse-shear" | "coupling" (used only as membrane-bending coupling: not checked),
      "rows": [{"line", "temperature", "eig_min", "eig_max", "condition", "positive_definite",
                # engineering / lamina only:
                "moduli": {"E1": .., ...}, "pairs": {"nu12^2*E2/E1": ..}, "determinant": ..}]}
@@ -115,7 +115,11 @@ def derive_aniso(model, config) -> None:
             if block.kind == "elastic" and block.form in ANISO_FORMS:
                 parts = ["full"]
                 if block.form in ("mat2", "lamina") and "transverse-shear" in roles:
-                    parts = ["transverse-shear"] if roles == {"transverse-shear"} else ["full", "transverse-shear"]
+                    parts = ["transverse-shear"] if roles - {"coupling"} == {"transverse-shear"} \
+                        else ["full", "transverse-shear"]
+                elif roles == {"coupling"}:
+                    # a shell's membrane-bending coupling matrix (PSHELL MID4) need not be positive definite
+                    parts = ["coupling"]
                 for part in parts:
                     entry = analyse_block(block, part, tol)
                     entry["block"] = bi
