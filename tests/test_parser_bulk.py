@@ -365,3 +365,17 @@ def test_counts_match_meshio(write_deck):
     mapping = {"CHEXA8": "hexahedron", "CTETRA4": "tetra", "CQUAD4": "quad", "CTRIA3": "triangle", "CBAR": "line"}
     assert {mapping[k]: v for k, v in ours.items()} == ref_total
     assert m.geometry.node_count == len(mesh.points)
+
+
+def test_empty_and_comment_only(write_deck):
+    for text in ("", "$ only a comment\n\n   \n"):
+        m = parse(write_deck("e.bdf", text))
+        assert [i.code for i in m.issues] == ["empty-file"]
+
+
+def test_cr_line_ends_and_huge_ids(write_deck):
+    p = write_deck("cr.bdf", (HEAD + "MAT1,1,2.1+5,,.3\nGRID*,1" + "1" * 40 + ",,1.,2.\n*,3.\nENDDATA\n")
+                   .replace("\n", "\r").encode())
+    assert bulk.sniff(p.read_bytes()) > 0.9
+    m = parse(p)
+    assert m.materials["1"].loc.line == 4 and m.geometry.node_count == 1

@@ -55,7 +55,7 @@ def sniff(head: bytes) -> float:
             head = head.decode("utf-16").encode("utf-8", "replace")
         except UnicodeDecodeError:
             return 0.0
-    up = head.upper()
+    up = head.upper().replace(b"\r", b"\n")
     score = 0.0
     if _BEGIN.search(up):
         score = 0.95
@@ -102,6 +102,10 @@ def parse(path: str, options) -> DeckModel:
     src = read_deck_bytes(path, options.max_file_size)   # SourceError for an unreadable top file
     data = src.data
     mode = "exec"
+    if not re.search(rb"(?m)^[ \t]*[^$\s]", data):
+        model.issues.append(Issue("empty-file", f"{display} is empty or holds only comments", Loc(display, 1)))
+        model.files.append(display)
+        return model
     if not _BEGIN.search(data) and not re.search(rb"(?im)^[ \t]*CEND", data):
         mode = "bulk"
         if data.strip():
@@ -377,9 +381,10 @@ def _slow_elements(st, cards: list[Card]) -> None:
 
 def _safe(fn, n, c):
     try:
-        return fn(n, c)
+        v = fn(n, c)
     except (FieldError, ValueError, OverflowError):
         return 0
+    return v if v is None or abs(v) < 2 ** 62 else 0
 
 
 def _safe_real(t: str) -> float:
