@@ -162,12 +162,17 @@ def jsonable(value: Any) -> Any:
 
 
 def material_summary(model) -> list[dict[str, Any]]:
+    from .usage import element_types_of
+
     out = []
     for m in list(model.materials.values()) + list(model.duplicate_materials):
         entry = {
             "name": m.name, "path": m.loc.path, "line": m.loc.line,
             "properties": [f"{b.kind}:{b.form}" if b.form != "iso" else b.kind for b in m.blocks],
         }
+        used = element_types_of(model, m.key)
+        if used:
+            entry["used_by"] = used
         if m.derived:
             entry["derived"] = jsonable(m.derived)
         out.append(entry)
