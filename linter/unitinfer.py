@@ -24,7 +24,7 @@ from __future__ import annotations
 import functools
 import itertools
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from importlib import resources
 from typing import Optional
 
@@ -180,6 +180,14 @@ def score_material(ev: MaterialEvidence, data: UnitData) -> MaterialScore:
             for alt in set.intersection(*(set(data.slip_sources[g]) for g in subset)):
                 m = class_misfit(ev, data, {q: alt for q in qs}).min(axis=0)
                 best = np.where(ok & (m <= tol), np.minimum(best, m), best)
+        if "rho" in ev.values:
+            # a weight density taken as mass density (bulk RHO without PARAM,WTMASS): rho / g of the system
+            g_sys = float(data.model["gravity"]) / data.scales("acceleration")
+            for i in np.flatnonzero(bad["rho"]):
+                trial = replace(ev, values={**ev.values, "rho": ev.values["rho"] / g_sys[i]})
+                m = float(class_misfit(trial, data)[:, i].min())
+                if m <= tol:
+                    best[i] = min(best[i], m)
         reading = np.minimum(mis, best + pen)
     dims = frozenset(QUANTITY_DIMENSION[q] for q in ev.values if QUANTITY_DIMENSION[q])
     return MaterialScore(ev, pc, mis, pc.argmin(axis=0), reading, consistent, dims)

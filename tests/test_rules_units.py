@@ -258,3 +258,45 @@ def test_moduli_far_off_in_every_class_are_implausible_not_silent():
     bad = [f for f in found if f.material == "X"]
     assert bad and all(f.rule in ("units/implausible", "units/mismatch") for f in bad)
     assert any(f.data.get("quantity") == "E" or "E" in f.data.get("quantities", ()) for f in bad)
+
+
+# --------------------------------------------------------------------------- end to end (bulk parser)
+
+BULK = importlib.util.find_spec("linter.parsers.bulk") is not None
+
+PLATE = """SOL 103
+CEND
+TITLE = demo aluminium plate, in-lbf-s
+METHOD = 1
+BEGIN BULK
+PARAM,WTMASS,0.00259
+EIGRL,1,,,4
+GRID,1,,0.,0.,0.
+GRID,2,,10.,0.,0.
+GRID,3,,10.,10.,0.
+GRID,4,,0.,10.,0.
+CQUAD4,1,1,1,2,3,4
+PSHELL,1,1,0.1,1
+MAT1,1,{E},,0.33,0.1
+ENDDATA
+"""
+
+
+@pytest.mark.skipif(not BULK, reason="bulk parser not available yet")
+def test_bulk_deck_weight_density_with_wtmass(write_deck):
+    # aluminium: E 1.0e7 psi, RHO 0.1 lbf/in^3 with WTMASS 0.00259 (physics.md 1.5, 5.4)
+    rep = _check(write_deck("plate.bdf", PLATE.format(E="1.0E7")))
+    assert rep.unit_system["name"] == "in-lbf-s"
+    assert [f.rule for f in rep.findings] == []
+
+
+@pytest.mark.skipif(not BULK, reason="bulk parser not available yet")
+def test_bulk_deck_modulus_in_pa_with_psi_density(write_deck):
+    # E 6.89e10 (Al 6061-T6 in Pa, ASM via physics.md 5.5) with RHO 0.1 x WTMASS 0.00259 (in-lbf-s mass
+    # density): one material, so the moduli anchor the system and the density is named, with RHO and WTMASS
+    rep = _check(write_deck("plate.bdf", PLATE.format(E="6.89E10")))
+    mm = [f for f in rep.findings if f.rule == "units/mismatch"]
+    assert len(mm) == 1 and mm[0].data["quantities"] == ["rho"] and mm[0].data["fits"] == "in-lbf-s"
+    assert mm[0].line == 14 and "WTMASS" in mm[0].message
+    # 0.1 x 0.00259 lbf s^2/in^4 = 2768 kg/m^3 (physics.md 1.5 gives 2769 for WTMASS 0.002591)
+    assert mm[0].data["write"]["rho"] == pytest.approx(2768, rel=1e-3)
