@@ -1,7 +1,9 @@
 """aniso/* rules on neutral models built directly (layouts of linter.model.BLOCK_LAYOUTS)."""
 from __future__ import annotations
 
+import importlib.util
 import math
+import re
 
 import pytest
 from hypothesis import given, settings
@@ -203,7 +205,8 @@ SIZES = {"ortho": 9, "engineering": 9, "aniso": 21, "mat9": 21, "mat2": 6, "lami
 @given(form=st.sampled_from(sorted(SIZES)), data=st.data())
 def test_any_constants_give_findings_not_exceptions(form, data):
     n = data.draw(st.integers(0, SIZES[form]))
-    vals = data.draw(st.lists(st.floats(-1e6, 1e6, allow_nan=False) | st.just(0.0), min_size=n, max_size=n))
+    vals = data.draw(st.lists(st.floats(-1e6, 1e6, allow_nan=False) | st.just(0.0)
+                              | st.floats(allow_nan=False, allow_infinity=False), min_size=n, max_size=n))
     found = run(model_with(block("elastic", form, [vals]), sections=[_solid("M"), _shell("M", "transverse-shear")]))
     assert all(f.rule.startswith("aniso/") for f in found)
 
@@ -277,6 +280,9 @@ def test_corpus_sweep_has_no_internal_failure_in_aniso(corpus_dir):
     from linter.check import check_paths
 
     files = sorted(str(p) for p in (corpus_dir / "keyword").glob("*.inp"))
+    if importlib.util.find_spec("linter.parsers.bulk") is not None:
+        cards = re.compile(rb"^(MAT2|MAT5|MAT8|MAT9)[ ,*]", re.M)
+        files += sorted(str(p) for p in (corpus_dir / "bulk").glob("*.DAT") if cards.search(p.read_bytes()))
     res = check_paths(files, Config(select=["aniso"]))
     bad = [f for f in res.findings if f.rule.startswith("internal/") and
            ("anisotropic" in f.message or f.data.get("failed_rule", "").startswith("aniso/"))]

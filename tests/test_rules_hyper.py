@@ -175,7 +175,8 @@ FORMS = ["neo-hooke", "mooney-rivlin", "polynomial-2", "polynomial-3", "reduced-
 
 @settings(max_examples=40, deadline=None)
 @given(form=st.sampled_from(FORMS),
-       vals=st.lists(st.floats(-1e3, 1e3, allow_nan=False) | st.sampled_from([0.0, 0.5, 1e-12, 60.0]),
+       vals=st.lists(st.floats(-1e3, 1e3, allow_nan=False) | st.sampled_from([0.0, 0.5, 1e-12, 60.0])
+                     | st.floats(allow_nan=False, allow_infinity=False),
                      min_size=0, max_size=12))
 def test_any_constants_give_findings_not_exceptions(form, vals):
     kind = "hyperfoam" if form.startswith("hyperfoam") else "hyperelastic"

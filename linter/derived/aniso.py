@@ -41,7 +41,7 @@ def _from_compliance(s: np.ndarray, tol: float) -> dict:
     """Eigen summary of C computed from S: C's eigenvalues are 1/S's where S is positive definite."""
     es = A.eigen_summary(s, tol)
     pd = es["positive_definite"]
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         lo = np.where(pd, 1 / es["max"], es["min"])
         hi = np.where(pd, 1 / es["min"], es["max"])
     return {"min": lo, "max": hi, "condition": es["condition"], "positive_definite": pd,

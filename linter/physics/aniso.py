@@ -88,7 +88,7 @@ def compliance_engineering(values) -> np.ndarray:
     nu_ij is -eps_j/eps_i under sigma_i (nu12 the major ratio); S is symmetric by construction.
     """
     e1, e2, e3, n12, n13, n23, g12, g13, g23 = _rows(values, 9).T
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         s = np.zeros((e1.shape[0], 6, 6))
         s[:, 0, 0], s[:, 1, 1], s[:, 2, 2] = 1 / e1, 1 / e2, 1 / e3
         s[:, 0, 1] = s[:, 1, 0] = -n12 / e1
@@ -123,7 +123,7 @@ def stiffness_engineering(values) -> np.ndarray:
 def engineering_from_stiffness(c: np.ndarray) -> dict[str, np.ndarray]:
     """Engineering constants of an orthotropic C (CalculiX order): the inverse of stiffness_engineering."""
     s = safe_inv(np.asarray(c, dtype=float).reshape(-1, 6, 6))
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         e = 1 / s[:, [0, 1, 2], [0, 1, 2]]
         return {"E1": e[:, 0], "E2": e[:, 1], "E3": e[:, 2],
                 "nu12": -s[:, 0, 1] * e[:, 0], "nu13": -s[:, 0, 2] * e[:, 0], "nu23": -s[:, 1, 2] * e[:, 1],
@@ -138,7 +138,7 @@ def engineering_bounds(values) -> dict[str, np.ndarray]:
     1 - nu12 nu21 - nu23 nu32 - nu31 nu13 - 2 nu21 nu32 nu13 (must be > 0).
     """
     e1, e2, e3, n12, n13, n23, g12, g13, g23 = _rows(values, 9).T
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         n21, n31, n32 = n12 * e2 / e1, n13 * e3 / e1, n23 * e3 / e2
         pairs = np.stack([n12 * n21, n13 * n31, n23 * n32], axis=1)
         det = 1 - n12 * n21 - n23 * n32 - n31 * n13 - 2 * n21 * n32 * n13
@@ -148,7 +148,7 @@ def engineering_bounds(values) -> dict[str, np.ndarray]:
 def lamina_q(values) -> np.ndarray:
     """MAT8 reduced (plane-stress) stiffness Q (n,3,3), order (1, 2, 12) (physics.md 2.3)."""
     e1, e2, n12, g12 = _rows(values, 6).T[:4]
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         n21 = n12 * e2 / e1
         d = 1 - n12 * n21
         q = np.zeros((e1.shape[0], 3, 3))
@@ -161,7 +161,7 @@ def lamina_q(values) -> np.ndarray:
 def lamina_s(values) -> np.ndarray:
     """MAT8 in-plane compliance S (n,3,3), order (1, 2, 12)."""
     e1, e2, n12, g12 = _rows(values, 6).T[:4]
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         s = np.zeros((e1.shape[0], 3, 3))
         s[:, 0, 0], s[:, 1, 1], s[:, 2, 2] = 1 / e1, 1 / e2, 1 / g12
         s[:, 0, 1] = s[:, 1, 0] = -n12 / e1
@@ -179,7 +179,7 @@ def lamina_shear(values) -> np.ndarray:
 def lamina_bounds(values) -> dict[str, np.ndarray]:
     """MAT8: ``moduli`` (n,3) = E1 E2 G12 (> 0), ``pairs`` (n,1) = nu12^2 * E2/E1 (< 1)."""
     e1, e2, n12, g12 = _rows(values, 6).T[:4]
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         return {"moduli": np.stack([e1, e2, g12], axis=1), "pairs": (n12 * n12 * e2 / e1)[:, None]}
 
 
@@ -194,11 +194,16 @@ def eigen_summary(m: np.ndarray, rel_tol: float = 1e-12) -> dict[str, np.ndarray
     lo, hi = np.full(n, np.nan), np.full(n, np.nan)
     ok = np.all(np.isfinite(m), axis=(-2, -1))
     if ok.any():
-        ev = np.linalg.eigvalsh(0.5 * (m[ok] + np.swapaxes(m[ok], -1, -2)))
+        sub = m[ok]
+        scale = np.max(np.abs(sub), axis=(-2, -1))          # scaled first: no overflow for huge entries
+        scale = np.where(scale > 0, scale, 1.0)[:, None, None]
+        sub = sub / scale
+        with np.errstate(over="ignore"):
+            ev = np.linalg.eigvalsh(0.5 * (sub + np.swapaxes(sub, -1, -2))) * scale[:, :, 0]
         lo[ok], hi[ok] = ev[:, 0], ev[:, -1]
     big = np.maximum(np.abs(lo), np.abs(hi))
     pd = ok & (lo > rel_tol * big) & (big > 0)
-    with np.errstate(divide="ignore", invalid="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         cond = np.where(pd, hi / np.where(pd, lo, 1.0), np.inf)
     cond[~ok] = np.nan
     return {"min": lo, "max": hi, "condition": cond, "positive_definite": pd, "finite": ok}
