@@ -81,9 +81,12 @@ def test_determinant_condition_when_pairwise_bounds_hold():
     # AS4/3501-6 with nu23 = 0.99: pairwise bounds hold, condition 3 = -0.00734 (physics.md 2.4)
     v = list(AS4_3D)
     v[5] = 0.99
-    found = run(model_with(block("elastic", "engineering", [v])))
+    m = model_with(block("elastic", "engineering", [v]))
+    found = run(m)
     assert [f.rule for f in found] == ["aniso/not-positive-definite"]
     assert "-0.00734" in found[0].message and "nu23 nu32" in found[0].message
+    # the stored eigenvalue is the stiffness's: C has a negative eigenvalue of -3433 (physics.md 2.4)
+    assert m.materials["M"].derived["aniso"][0]["rows"][0]["eig_min"] == pytest.approx(-3433, rel=1e-3)
 
 
 def test_non_positive_modulus():

@@ -8,9 +8,9 @@ Fills ``Material.derived["aniso"]``: a list with one entry per anisotropic elast
                # engineering / lamina only:
                "moduli": {"E1": .., ...}, "pairs": {"nu12^2*E2/E1": ..}, "determinant": ..}]}
 
-Eigenvalues are those of the stiffness in the deck's unit (for engineering constants and MAT8 they
-are computed from the compliance, which stays finite when C does not exist: C's eigenvalues are
-the reciprocals). ``Material.derived["conductivity"]`` holds the same eigen summary for ORTHO/ANISO
+Eigenvalues are those of the stiffness in the deck's unit (nan where it does not exist). For
+engineering constants and MAT8 positive definiteness is decided on the compliance S, which stays
+finite when C does not exist; its smallest eigenvalue is kept as ``compliance_eig_min``. ``Material.derived["conductivity"]`` holds the same eigen summary for ORTHO/ANISO
 conductivity blocks.
 """
 from __future__ import annotations
@@ -38,13 +38,11 @@ def _values(block, k: int) -> np.ndarray:
 
 
 def _from_compliance(s: np.ndarray, tol: float) -> dict:
-    """Eigen summary of C computed from S: C's eigenvalues are 1/S's where S is positive definite."""
+    """Eigen summary of C = S^-1, with positive definiteness decided on S (which exists when C may not)."""
     es = A.eigen_summary(s, tol)
+    ec = A.eigen_summary(A.safe_inv(s), tol)
     pd = es["positive_definite"]
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        lo = np.where(pd, 1 / es["max"], es["min"])
-        hi = np.where(pd, 1 / es["min"], es["max"])
-    return {"min": lo, "max": hi, "condition": es["condition"], "positive_definite": pd,
+    return {"min": ec["min"], "max": ec["max"], "condition": es["condition"], "positive_definite": pd,
             "compliance_min": es["min"], "finite": es["finite"]}
 
 
@@ -100,6 +98,8 @@ def analyse_block(block, part: str, tol: float) -> dict:
                "condition": float(summ["condition"][i]),
                "positive_definite": bool(summ["positive_definite"][i]),
                "complete": bool(summ["finite"][i]) or form == "lamina"}
+        if "compliance_min" in summ:
+            row["compliance_eig_min"] = float(summ["compliance_min"][i])
         row.update(extra[i])
         rows.append(row)
     return {"form": form, "card": block.card, "line": block.loc.line, "part": part, "rows": rows}
