@@ -379,3 +379,12 @@ def test_cr_line_ends_and_huge_ids(write_deck):
     assert bulk.sniff(p.read_bytes()) > 0.9
     m = parse(p)
     assert m.materials["1"].loc.line == 4 and m.geometry.node_count == 1
+
+
+def test_blank_node_fields_counted_both_ways(write_deck):
+    # the shortcut (no blank field possible) and the field-by-field count give the same types
+    plain = HEAD + "CTETRA,1,2,1,2,3,4\nCTETRA,2,2,1,2,3,4,5,6,+\n+,7,8,9,10\nENDDATA\n"
+    blanks = HEAD + "CTETRA,1,2,1,2,3,4,,\nCTETRA,2,2,1,2,3,4,5,,+\n+,7,8,9,10\nENDDATA\n"
+    a = sorted((b.type, b.count) for b in parse(write_deck("a.bdf", plain)).element_blocks)
+    b = sorted((b.type, b.count) for b in parse(write_deck("b.bdf", blanks)).element_blocks)
+    assert a == b == [("CTETRA10", 1), ("CTETRA4", 1)]

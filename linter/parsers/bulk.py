@@ -24,7 +24,7 @@ from ..sources import SourceError, read_deck_bytes, text
 from . import bulk_case as bc
 from .bulk_cards import OTHER_MATS, PROPERTY_CARDS, SLOW_CARDS, STRUCTURAL_MATS, THERMAL_MATS, Builder, Card, tables_of
 from .bulk_fields import FieldError, continuation_marker, gather, real, split_line, vec_int, vec_real
-from .bulk_lines import Lines, classify, data_fields, is_free, line_table
+from .bulk_lines import Lines, classify, comma_counts, data_fields, free_counts, line_table
 
 FORMAT = "bulk"
 EXTENSIONS = (".bdf", ".dat", ".nas", ".blk", ".bulk")
@@ -80,6 +80,7 @@ class _Part:
     free: bool
     path: str
     cols: dict = field(default_factory=dict)   # parsed columns (pid, tcode, eid, line, ...)
+    cn: Optional[np.ndarray] = None            # commas per physical line (free field)
 
 
 @dataclass
@@ -290,13 +291,14 @@ def _fast(st, name, lines, idx, heads, nl, large, display) -> Optional[np.ndarra
             sel = allsel[c0:c0 + CHUNK]
             rows = idx[heads[sel][:, None] + np.arange(m)]
             star = lines.buf[np.minimum(lines.ls[rows[:, 1:]], lines.buf.size - 1)] == 42 if m > 1 else None
-            free = is_free(lines, rows.ravel()).reshape(rows.shape)
+            cn = comma_counts(lines, rows.ravel()).reshape(rows.shape)
+            free = cn > 0
             nostar = ~star.any(axis=1) if star is not None else np.ones(sel.size, dtype=bool)
             handled = np.zeros(sel.size, dtype=bool)
             for fr in (True, False):
                 ok = (free.all(axis=1) if fr else ~free.any(axis=1)) & nostar
                 if ok.any():
-                    part = _Part(lines, rows[ok], fr, display)
+                    part = _Part(lines, rows[ok], fr, display, cn=cn[ok])
                     (_grid_cols if name == "GRID" else _elem_cols)(st, name, part)
                     st.parts.setdefault(name, []).append(part)
                 handled |= ok
@@ -319,20 +321,24 @@ def _bad(st, part, bad, what):
 
 
 def _elem_cols(st, name, part: _Part) -> None:
-    s, e = _fields(part)
+    counts = free_counts(part.lines, part.rows, part.cn) if part.free else None
+    s, e = _fields(part) if counts is None else data_fields(part.lines, part.rows[:, 0], True, 2)
     eid, _b, bad = vec_int(part.lines.buf, s[:, 0], e[:, 0])
     _bad(st, part, bad, f"{name} element id")
     pid, pblank, bad2 = vec_int(part.lines.buf, s[:, 1], e[:, 1])
     _bad(st, part, bad2, f"{name} property id")
     pid = np.where(pblank, eid, pid)   # blank PID defaults to the EID (MYSTRAN element tables)
     maxn, types = ELEMENTS[name]
-    ns, ne = s[:, 2:2 + maxn], e[:, 2:2 + maxn]
-    blank = ne <= ns
-    amb = ~blank & (part.lines.buf[np.minimum(ns, part.lines.buf.size - 1)] == 32)
-    if amb.any():
-        _v, b3, _x = vec_int(part.lines.buf, ns[amb], ne[amb])
-        blank[amb] = b3
-    count = (~blank).sum(axis=1)
+    if counts is not None:
+        count = np.minimum(counts.sum(axis=1) - 2, maxn)
+    else:
+        ns, ne = s[:, 2:2 + maxn], e[:, 2:2 + maxn]
+        blank = ne <= ns
+        amb = ~blank & (part.lines.buf[np.minimum(ns, part.lines.buf.size - 1)] == 32)
+        if amb.any():
+            _v, b3, _x = vec_int(part.lines.buf, ns[amb], ne[amb])
+            blank[amb] = b3
+        count = (~blank).sum(axis=1)
     tcode = np.zeros(eid.size, dtype=np.int64)
     for t, (limit, _ty) in enumerate(types[:-1]):
         tcode[count > limit] = t + 1

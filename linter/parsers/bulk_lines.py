@@ -21,6 +21,7 @@ class Lines:
     buf: np.ndarray          # uint8 view of the file bytes
     ls: np.ndarray           # start offset of every physical line
     le: np.ndarray           # end offset (exclusive), comment cut off
+    data: bytes = b""        # the file bytes (for C-speed substring searches)
 
 
 def line_table(data: bytes) -> Lines:
@@ -34,7 +35,7 @@ def line_table(data: bytes) -> Lines:
         kk = np.minimum(k, dollars.size - 1)
         cut = (k < dollars.size) & (dollars[kk] < le)
         le = np.where(cut, dollars[kk], le)
-    return Lines(buf, ls, le)
+    return Lines(buf, ls, le, data)
 
 
 def classify(lines: Lines, lo: int, hi: int):
@@ -115,7 +116,27 @@ def data_fields(lines: Lines, rows: np.ndarray, free: bool, nf: int = 8) -> tupl
     return st, en
 
 
-def is_free(lines: Lines, rows: np.ndarray) -> np.ndarray:
+def comma_counts(lines: Lines, rows: np.ndarray) -> np.ndarray:
+    """Number of commas on each physical line ``rows`` (> 0 means free field)."""
     ls, le = lines.ls[rows], lines.le[rows]
     commas = _commas(lines, ls, le)
-    return np.searchsorted(commas, le) > np.searchsorted(commas, ls)
+    return np.searchsorted(commas, le) - np.searchsorted(commas, ls)
+
+
+def is_free(lines: Lines, rows: np.ndarray) -> np.ndarray:
+    return comma_counts(lines, rows) > 0
+
+
+def free_counts(lines: Lines, rows: np.ndarray, cn: np.ndarray) -> "np.ndarray | None":
+    """Non-blank data fields per physical line of free-field ``rows`` (n, m), when no field can be blank.
+
+    Fast path for element cards: when the byte range holds no ``,,``, ``, ,`` or a comma
+    at a line end, every field between commas is non-blank and a line has min(commas, 8)
+    data fields (``cn``: commas per line); otherwise None (the caller looks at every field).
+    """
+    ls, le = lines.ls[rows], lines.le[rows]
+    a, b = int(ls.min()), int(le.max())
+    d = lines.data
+    if any(d.find(pat, a, b) >= 0 for pat in (b",,", b", ,", b",\n", b",$", b", \n")):
+        return None
+    return np.minimum(cn, 8)
