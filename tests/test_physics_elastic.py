@@ -138,11 +138,20 @@ def test_derivation_rows_and_density_matching():
     assert math.isnan(seal["K"]) and math.isnan(seal["K_over_G"]) and "c0" not in seal
 
 
-def test_bulk_density_uses_wtmass():
-    # physics.md 1.5: RHO is a weight density when PARAM,WTMASS is not 1 (mass density = WTMASS * RHO)
-    d = Deck(fmt="bulk", dialect="mystran", path="deck.bdf")
-    d.model.params["WTMASS"] = 0.002591
-    d.material("MID 1", elastic=[(10.0e6, 0.33)], density=[(0.1,)])
-    d.run()
-    r = d.model.materials["MID1"].derived["elastic"][0]
+def test_bulk_density_uses_wtmass(write_deck):
+    # physics.md 1.5: RHO is a weight density when PARAM,WTMASS is not 1 (mass density = WTMASS * RHO);
+    # the bulk parser applies the factor once, the derivation must not apply it again
+    from linter.check import make_policy
+    from linter.config import Config
+
+    deck = write_deck("wt.bdf", "SOL 101\nCEND\nBEGIN BULK\nPARAM,WTMASS,0.002591\n"
+                      "MAT1,1,1.0+7,,0.33,0.1\nENDDATA\n")
+    from linter import parsers
+
+    opts = parsers.ParseOptions(dialect="mystran", include=make_policy([str(deck)], Config()))
+    model = parsers.get("bulk").parse(str(deck), opts)
+    from linter.derived import derive_all
+
+    derive_all(model, Config())
+    r = model.materials["1"].derived["elastic"][0]
     assert r["rho"] == pytest.approx(2.591e-4)

@@ -9,8 +9,9 @@ elastic block (all blocks, in deck order; the solver uses the last one)::
 
 Density: with a tabulated density and a tabulated elastic block, the density of the
 same temperature is used (linear interpolation between rows, constant beyond the
-ends); otherwise the single density. Bulk decks multiply RHO by ``PARAM,WTMASS``
-(physics.md 1.5: RHO may be a weight density).
+ends); otherwise the single density. The density block already holds the mass density
+the solver uses (bulk parsers store RHO times ``PARAM,WTMASS``, physics.md 1.5), so no
+factor is applied here.
 """
 from __future__ import annotations
 
@@ -27,12 +28,12 @@ def _f(x) -> float:
     return x if math.isfinite(x) else math.nan
 
 
-def density_at(mat, temps: np.ndarray, wtmass: float = 1.0):
+def density_at(mat, temps: np.ndarray):
     """Density at the temperatures ``temps`` (nan for rows without temperature), or None without density."""
     blk = mat.first("density")
     if blk is None or not blk.rows:
         return None
-    rho = blk.column("rho") * wtmass
+    rho = blk.column("rho")
     tt = blk.temperatures()
     if len(rho) == 1 or not np.isfinite(tt).any():
         return np.full(temps.shape, rho[0])
@@ -42,12 +43,6 @@ def density_at(mat, temps: np.ndarray, wtmass: float = 1.0):
 
 @derivation("elastic constants", order=10)
 def derive_elastic(model, config) -> None:
-    wtmass = 1.0
-    if model.format == "bulk":
-        try:
-            wtmass = float(model.params.get("WTMASS", 1.0))
-        except (TypeError, ValueError):
-            wtmass = 1.0
     for mat in model.all_materials():
         rows_out = []
         for bi, blk in enumerate(mat.blocks):
@@ -55,7 +50,7 @@ def derive_elastic(model, config) -> None:
                 continue
             E, nu, T = blk.column("E"), blk.column("nu"), blk.temperatures()
             c = el.from_E_nu(E, nu)
-            rho = density_at(mat, T, wtmass)
+            rho = density_at(mat, T)
             waves = el.wave_speeds(c["E"], c["G"], c["M"], rho) if rho is not None else None
             for i, row in enumerate(blk.rows):
                 out = {"T": row.temperature, "line": row.loc.line, "path": row.loc.path, "block": bi}
