@@ -104,13 +104,15 @@ def safe_inv(m: np.ndarray) -> np.ndarray:
     out = np.full_like(m, np.nan)
     ok = np.all(np.isfinite(m), axis=(-2, -1))
     if ok.any():
-        sub = m[ok]
-        det = np.linalg.det(sub)
-        scale = np.max(np.abs(sub), axis=(-2, -1)) ** sub.shape[-1]
-        good = np.abs(det) > 1e-14 * np.where(scale > 0, scale, 1.0)
+        scale = np.max(np.abs(m[ok]), axis=(-2, -1))
+        scale = np.where(scale > 0, scale, 1.0)[:, None, None]
+        sub = m[ok] / scale                                   # entries in [-1, 1]: nothing can overflow
+        sv = np.linalg.svd(sub, compute_uv=False)
+        good = sv[:, -1] > 1e-15 * sv[:, 0]                   # numerically invertible
         inv = np.full_like(sub, np.nan)
         if good.any():
-            inv[good] = np.linalg.inv(sub[good])
+            with np.errstate(over="ignore", invalid="ignore"):
+                inv[good] = np.linalg.inv(sub[good]) / scale[good]
         out[ok] = inv
     return out
 
@@ -187,7 +189,8 @@ def eigen_summary(m: np.ndarray, rel_tol: float = 1e-12) -> dict[str, np.ndarray
     """Eigenvalues of symmetric matrices (n,k,k): min, max, condition number, positive definite.
 
     Rows with nan entries are skipped (all results nan / False). ``positive_definite`` means
-    lambda_min > rel_tol * |lambda|_max; ``condition`` is lambda_max/lambda_min (inf when not PD).
+    lambda_min > rel_tol * |lambda|_max (a smaller |lambda_min| is returned as 0); ``condition`` is
+    lambda_max/lambda_min (inf when not PD).
     """
     m = np.asarray(m, dtype=float)
     n = m.shape[0]
@@ -203,6 +206,8 @@ def eigen_summary(m: np.ndarray, rel_tol: float = 1e-12) -> dict[str, np.ndarray
         lo[ok], hi[ok] = ev[:, 0], ev[:, -1]
     big = np.maximum(np.abs(lo), np.abs(hi))
     pd = ok & (lo > rel_tol * big) & (big > 0)
+    # an eigenvalue within the tolerance of zero is zero to round-off (its sign means nothing)
+    lo = np.where(ok & (np.abs(lo) <= rel_tol * big), 0.0, lo)
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         cond = np.where(pd, hi / np.where(pd, lo, 1.0), np.inf)
     cond[~ok] = np.nan
