@@ -61,7 +61,8 @@ def negative_initial_shear(model, ctx):
     for mat, entry, loc in _entries(model):
         rows = [r for r in entry["rows"] if "mu0" in r and not (r["mu0"] > 0)]
         if rows:
-            text = _rows_text([f"{row_label(r)}: mu0 = {_fmt(r['mu0'])}" for r in rows])
+            text = _rows_text([f"{row_label(r)}: " + (f"{r['invalid']}, mu0 is undefined" if r.get("invalid")
+                                                     else f"mu0 = {_fmt(r['mu0'])}") for r in rows])
             yield ctx.finding(f"material {mat.name} ({entry['model']}): initial shear modulus is not positive: {text}",
                               loc, material=mat.name, defect=_mu_defect(mat, entry),
                               data={"model": entry["model"], "rows": [{"line": r["line"], "temperature":

@@ -66,6 +66,12 @@ def test_negative_initial_shear_restates_instability():
     assert "mu0 = -0.6" in found[0].message and found[0].line == 20
 
 
+def test_arruda_boyce_needs_positive_locking_stretch():
+    found = run(model_with(hblock("arruda-boyce", [(0.27, 0.0, 0.001)])))
+    assert rules_of(found) == ["hyper/negative-initial-shear"]
+    assert "lambda_m = 0 is not positive" in found[0].message
+
+
 def test_negative_bulk():
     found = run(model_with(hblock("neo-hooke", [(0.5, -0.001)])))
     assert rules_of(found) == ["hyper/negative-bulk"]

@@ -36,7 +36,7 @@ def analyse_row(form: str, values, ccx_default: bool, stretch_range, points: int
         return {"model": form, "skipped": "unknown hyperelastic form"}
     out = HM.initial_moduli(hr, ccx_default=ccx_default)
     if form == "arruda-boyce" and hr.model is None:
-        out["invalid"] = "lambda_m must be positive"
+        out["invalid"] = f"the locking stretch lambda_m = {float(values[1]) if len(values) > 1 else 0.0:g} is not positive"
     if hr.model is not None and not hr.foam_mu and math.isfinite(out["mu0"]):
         res = HS.scan(hr.model, stretch_range, points)
         out["stability"] = {m: {"stable": [list(iv) for iv in r["stable"]],
