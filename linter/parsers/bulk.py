@@ -41,8 +41,7 @@ FAST = set(ELEMENTS) | {"GRID"}
 #: cards read column-wise at a time
 CHUNK = 200_000
 _BEGIN = re.compile(rb"(?im)^[ \t]*BEGIN[ \t]+BULK")
-_END = re.compile(rb"(?im)^[ \t]*ENDDATA")
-_INCLUDE = re.compile(rb"(?im)^INCLUDE")
+_INCLUDE_ANY = re.compile(rb"(?im)^INCLUDE")
 _NAMES = rb"GRID|CQUAD4|CQUAD8|CTRIA3|CTRIA6|CHEXA|CPENTA|CTETRA|CBAR|CBEAM|CROD|CONROD|MAT1|MAT2|MAT8|MAT9|" \
          rb"PSHELL|PSOLID|PCOMP|PBAR|PBEAM|PROD|SPC1|SPC|FORCE|MOMENT|EIGRL|EIGR|PARAM|CORD2R|RBE2|CONM2|GRDSET"
 _CARD_AT_START = re.compile(rb"(?m)^(?:" + _NAMES + rb")\*?[ ,\t]")
@@ -124,7 +123,28 @@ def parse(path: str, options) -> DeckModel:
 
 
 def includes_of(path: str, options) -> list[str]:
-    return [i.resolved for i in parse(path, options).includes if i.resolved and i.status == "ok"]
+    """Resolved paths of the files this deck includes (nested), found by a scan of INCLUDE lines only."""
+    tracker = IncludeTracker(options.include)
+    out: list[str] = []
+
+    def walk(p: str, display: str) -> None:
+        try:
+            data = read_deck_bytes(p, options.max_file_size).data
+        except SourceError:
+            return
+        tracker.stack.append(os.path.realpath(p))
+        for m in _INCLUDE_ANY.finditer(data):
+            chunk = data[m.start():m.start() + 4096].split(b"\n")[:40]
+            mini = line_table(b"\n".join(chunk))
+            written, _used = _include_name(mini.data, mini, 0, len(chunk))
+            res = tracker.resolve(written, os.path.dirname(display))
+            if res.status == "ok" and res.path:
+                out.append(res.path)
+                walk(res.path, res.path)
+        tracker.stack.pop()
+
+    walk(path, getattr(options, "display_path", None) or path)
+    return out
 
 
 # --------------------------------------------------------------------------- one file
