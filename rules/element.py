@@ -33,7 +33,8 @@ def _hyper_ratio(mat):
         vals = [h.get("K0_over_mu0")]
     else:
         vals = []
-    vals = [float(v) for v in vals if v is not None and math.isfinite(float(v))]
+    # an infinite ratio (D = 0 read as incompressible outside CalculiX) is the worst case, not "no data"
+    vals = [float(v) for v in vals if v is not None and not math.isnan(float(v))]
     return max(vals) if vals else None
 
 
@@ -54,7 +55,8 @@ def _stiffness_cause(mat, ctx):
     if hr is not None and hr >= ratio_limit:
         err = hr >= float(ctx.threshold("element.locking_error_ratio"))
         return {"kind": "hyperelastic", "K0_over_mu0": hr, "error": err,
-                "text": f"hyperelastic K0/mu0 = {num(hr)}"}
+                "text": (f"hyperelastic K0/mu0 = {num(hr)}" if math.isfinite(hr)
+                         else "hyperelastic with D = 0 (incompressible, K0/mu0 infinite)")}
     return None
 
 

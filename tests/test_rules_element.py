@@ -142,3 +142,27 @@ def test_user_element_unknown_grade():
     found = d.run(RULE)
     assert len(found) == 1 and found[0].severity == "warning"
     assert "own formulation" in found[0].message and "PSOLID" not in found[0].message
+
+
+def test_incompressible_hyperelastic_outside_calculix_is_the_worst_case():
+    # physics.md 3.1: D = 0 means incompressible (K0 infinite); outside the CalculiX dialect nothing
+    # substitutes a compressibility, so on fully integrated hexahedra this is the worst locking case
+    from linter.model import DeckModel, ElementBlock, ElementSet, Loc, Material, MaterialRef, Section
+    from linter.check import check_paths  # noqa: F401  (registry and derivations load with the driver)
+    from linter.config import Config
+    from linter.derived import derive_all
+    from linter.runner import run_rules
+
+    loc = Loc("m.inp", 1)
+    m = DeckModel(path="m.inp", format="keyword", dialect="other-solver")
+    mat = Material("RUBBER", "RUBBER", loc)
+    from linter.model import PropertyBlock, Row
+
+    mat.blocks.append(PropertyBlock("hyperelastic", "neo-hooke", [Row((0.5, 0.0), None, loc)], loc))
+    m.materials["RUBBER"] = mat
+    m.element_blocks.append(ElementBlock("C3D8", "C3D8", 10, loc, elset="E", nodes=8))
+    m.element_sets["E"] = ElementSet("E", "E", loc, blocks=[0])
+    m.sections.append(Section("solid", "*SOLID SECTION", "E", "E", [MaterialRef("solid", "RUBBER", "RUBBER", loc)], loc))
+    derive_all(m, Config())
+    found = [f for f in run_rules(m, Config(select=["element"])) if f.rule == "element/volumetric-locking"]
+    assert len(found) == 1 and found[0].severity == "error" and "incompressible" in found[0].message
