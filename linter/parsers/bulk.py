@@ -111,13 +111,15 @@ def parse(path: str, options) -> DeckModel:
         if data.strip():
             model.issues.append(Issue("no-bulk-section", "no BEGIN BULK (and no executive/case control): the file is "
                                       "read as bulk data; solvers need BEGIN BULK ... ENDDATA", Loc(display, 1)))
+    nlines = max(1, data.count(b"\n"))
+    del data
     _scan(st, path, display, src, mode)
     if mode == "exec" and not st.saw_bulk:
         model.issues.append(Issue("no-bulk-section", "no BEGIN BULK line: the deck has no bulk data",
                                   Loc(display, 1)))
     elif st.saw_bulk and not st.saw_end:
         model.issues.append(Issue("no-bulk-section", "no ENDDATA: MYSTRAN stops with a fatal error when the file "
-                                  "ends before ENDDATA", Loc(display, max(1, data.count(b"\n")))))
+                                  "ends before ENDDATA", Loc(display, nlines)))
     _finish(st)
     return model
 
@@ -156,8 +158,9 @@ def _scan(st: _State, path: str, display: str, src, mode: str) -> None:
     st.tracker.stack.append(os.path.realpath(path))
     if src.encoding not in ("utf-8",):
         model.issues.append(Issue("encoding", f"{display} is read as {src.encoding}, not UTF-8", Loc(display, 1)))
-    data = src.data.replace(b"\t", b",") if b"\t" in src.data else src.data
-    lines = line_table(data)
+    lines = line_table(src.data.replace(b"\t", b",") if b"\t" in src.data else src.data)
+    src.data = b""          # keep one copy of the file in memory (lines.data)
+    data = lines.data
     n = lines.ls.size
     lo = 0
     if mode == "exec":

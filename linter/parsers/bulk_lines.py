@@ -25,7 +25,8 @@ class Lines:
 
 
 def line_table(data: bytes) -> Lines:
-    buf = np.frombuffer(data + b" " * PAD, dtype=np.uint8)
+    padded = data + b" " * PAD
+    buf = np.frombuffer(padded, dtype=np.uint8)
     nl = np.flatnonzero(buf == 10)
     ls = np.concatenate(([0], nl + 1)).astype(np.int64)
     le = np.concatenate((nl, [len(data)])).astype(np.int64)
@@ -43,7 +44,7 @@ def line_table(data: bytes) -> Lines:
         kk = np.minimum(k, dollars.size - 1)
         cut = (k < dollars.size) & (dollars[kk] < le)
         le = np.where(cut, dollars[kk], le)
-    return Lines(buf, ls, le, data)
+    return Lines(buf, ls, le, padded)   # callers use .data (the same text, padded) and drop theirs
 
 
 def classify(lines: Lines, lo: int, hi: int):
