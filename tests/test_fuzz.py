@@ -271,7 +271,7 @@ def mutate(data: bytes, muts) -> bytes:
 
 
 @pytest.mark.parametrize("fmt", FORMATS)
-@settings(max_examples=100, **SETTINGS)
+@settings(max_examples=200, **SETTINGS)
 @given(data=st.binary(max_size=3000))
 def test_arbitrary_bytes(fmt, data):
     CASES[f"bytes:{fmt}"] += 1
@@ -279,7 +279,7 @@ def test_arbitrary_bytes(fmt, data):
 
 
 @pytest.mark.parametrize("fmt", FORMATS)
-@settings(max_examples=100, **SETTINGS)
+@settings(max_examples=200, **SETTINGS)
 @given(data=st.data())
 def test_deck_like_text(fmt, data):
     text = data.draw(deck_lines(fmt))
@@ -288,7 +288,7 @@ def test_deck_like_text(fmt, data):
 
 
 @pytest.mark.parametrize("seed", SEEDS, ids=lambda p: p.name)
-@settings(max_examples=20, **SETTINGS)
+@settings(max_examples=30, **SETTINGS)
 @given(data=st.data())
 def test_mutated_real_decks(seed, data):
     fmt = seed_format(seed)
