@@ -21,12 +21,14 @@ from .bulk_lines import Lines, comma_counts, data_fields, free_counts
 ELEMENTS = {
     "CHEXA": (20, ((8, "CHEXA8"), (20, "CHEXA20"))), "CPENTA": (15, ((6, "CPENTA6"), (15, "CPENTA15"))),
     "CTETRA": (10, ((4, "CTETRA4"), (10, "CTETRA10"))), "CPYRAM": (13, ((5, "CPYRAM5"), (13, "CPYRAM13"))),
-    "CQUAD4": (4, ()), "CQUAD4K": (4, ()), "CTRIA3K": (3, ()), "CQUAD8": (8, ()), "CQUADR": (4, ()), "CTRIA3": (3, ()), "CTRIA6": (6, ()),
-    "CTRIAR": (3, ()), "CBAR": (2, ()), "CBEAM": (2, ()), "CROD": (2, ()), "CSHEAR": (4, ()),
+    "CQUAD4": (4, ()), "CQUAD4K": (4, ()), "CTRIA3K": (3, ()), "CQUAD8": (8, ()), "CQUADR": (4, ()),
+    "CTRIA3": (3, ()), "CTRIA6": (6, ()), "CTRIAR": (3, ()), "CBAR": (2, ()), "CBEAM": (2, ()), "CROD": (2, ()), "CSHEAR": (4, ()),
 }
 FAST = set(ELEMENTS) | {"GRID"}
 #: cards read column-wise at a time
 CHUNK = 200_000
+
+
 @dataclass
 class _Part:
     """Cards of one element/GRID name from one file, read column-wise (or one by one)."""
