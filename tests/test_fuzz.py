@@ -321,3 +321,61 @@ def test_mutate_does_what_it_says():
     assert mutate(data, [("swap", 0, 2, "", 0, 0)]) == b"c 3e4\nb 2.5\na 1\n"
     assert mutate(data, [("truncate", 1, 0, "", 2, 0)]) == b"a 1\nb "
     assert mutate(data, [("number", 2, 0, "nan", 0, 0)]) == b"a 1\nb 2.5\nc nan\n"
+
+
+# --------------------------------------------------------------------------- reporters on arbitrary results
+
+HOSTILE_TEXT = st.text(alphabet=st.one_of(
+    st.characters(codec="utf-8"), st.sampled_from(list("\n\r\t\x1b\x07\x00\x0b\x0c\x85\u2028\u202e[]*_<>&|`#\\"))),
+    max_size=40)
+FLOATS = st.floats(allow_nan=True, allow_infinity=True)
+DATA = st.recursive(st.one_of(st.none(), st.booleans(), st.integers(-2**70, 2**70), FLOATS, HOSTILE_TEXT),
+                    lambda inner: st.one_of(st.lists(inner, max_size=3),
+                                            st.dictionaries(HOSTILE_TEXT, inner, max_size=3)), max_leaves=8)
+
+
+@st.composite
+def run_results(draw):
+    from linter.findings import FileReport, Finding, RunResult
+
+    def finding(path):
+        return Finding(rule=draw(st.sampled_from(["elastic/near-incompressible", "parse/malformed-data",
+                                                  "internal/rule-failed", "acme/not-registered"])),
+                       severity=draw(st.sampled_from(["error", "warning", "note"])),
+                       message=draw(HOSTILE_TEXT), path=path,
+                       line=draw(st.one_of(st.none(), st.integers(-3, 10**9))),
+                       material=draw(st.one_of(st.none(), HOSTILE_TEXT)),
+                       data=draw(st.dictionaries(HOSTILE_TEXT, DATA, max_size=4)))
+
+    files = []
+    for _ in range(draw(st.integers(0, 3))):
+        path = draw(st.one_of(HOSTILE_TEXT.filter(bool), st.just("models/part.inp")))
+        files.append(FileReport(
+            path=path, format=draw(st.sampled_from(["keyword", "bulk", None])), dialect=None,
+            materials=[{"name": draw(HOSTILE_TEXT), "path": path, "line": draw(st.one_of(st.none(), st.integers(-1, 99))),
+                        "properties": draw(st.lists(HOSTILE_TEXT, max_size=3)),
+                        "derived": draw(st.dictionaries(HOSTILE_TEXT, DATA, max_size=3))}
+                       for _ in range(draw(st.integers(0, 2)))],
+            unchecked=[{"what": draw(HOSTILE_TEXT), "path": path, "line": 1, "reason": draw(HOSTILE_TEXT),
+                        "material": None}],
+            findings=[finding(path) for _ in range(draw(st.integers(0, 4)))],
+            unit_system=draw(st.one_of(st.none(), st.fixed_dictionaries({"name": HOSTILE_TEXT, "confidence": FLOATS}))),
+            summary=draw(st.dictionaries(HOSTILE_TEXT, DATA, max_size=3)),
+            incomplete=draw(st.booleans())))
+    general = [finding(draw(st.one_of(st.none(), HOSTILE_TEXT))) for _ in range(draw(st.integers(0, 2)))]
+    return RunResult(files=files, general=general, incomplete=draw(st.booleans()))
+
+
+@settings(max_examples=150, **SETTINGS)
+@given(result=run_results())
+def test_reporters_on_arbitrary_results(result):
+    CASES["results"] += 1
+    render_all(result)
+    if "line" in reporter_names():
+        from linter import reporters
+
+        buf = io.StringIO()
+        reporters.get("line")(result, buf, {"color": False})
+        # one finding, one line: no deck string can forge or hide a line
+        assert buf.getvalue().count("\n") == len(result.findings)
+        assert len(buf.getvalue().splitlines()) == len(result.findings)
