@@ -388,3 +388,11 @@ def test_blank_node_fields_counted_both_ways(write_deck):
     a = sorted((b.type, b.count) for b in parse(write_deck("a.bdf", plain)).element_blocks)
     b = sorted((b.type, b.count) for b in parse(write_deck("b.bdf", blanks)).element_blocks)
     assert a == b == [("CTETRA10", 1), ("CTETRA4", 1)]
+
+
+def test_free_field_with_two_values_in_one_field(write_deck):
+    # a missing comma puts two numbers in one free field (MYSTRAN FFIELD.f90: *ERROR 1002 past 16 characters)
+    m = parse(write_deck("z.bdf", HEAD + "PSHELL,1,1,.04,2,1.0,3,1.0,,+P\n+P,2.0-2,2.0-2  4,\nENDDATA\n"))
+    (iss,) = m.issues
+    assert iss.code == "malformed-data" and "Z2" in iss.message and iss.loc.line == 4
+    assert [r.role for r in m.sections[0].materials] == ["membrane", "bending", "transverse-shear"]

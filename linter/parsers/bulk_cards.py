@@ -318,8 +318,8 @@ class Builder:
                 mid = self.ident(card, n, f"MID{n}")
                 if mid and mid != "0":
                     refs.append(self.ref(role, mid, card))
-            opts.update(T=self.num(card, 4, "T"), **{"12I/T3": self.num(card, 6, "12I/T3"),
-                                                     "TS/T": self.num(card, 8, "TS/T")})
+            opts.update(T=self.num(card, 4, "T"), Z1=self.num(card, 10, "Z1"), Z2=self.num(card, 11, "Z2"),
+                        **{"12I/T3": self.num(card, 6, "12I/T3"), "TS/T": self.num(card, 8, "TS/T")})
             self.nsm(card, 9, pid)
         elif name in ("PCOMP", "PCOMPG", "PCOMP1"):
             kind = "composite-shell"
