@@ -110,7 +110,11 @@ def material_usage(model: DeckModel) -> dict[str, list[Use]]:
 
 def element_types_of(model: DeckModel, material_key: str) -> dict[str, int]:
     total: dict[str, int] = {}
+    seen: set[int] = set()
     for use in material_usage(model).get(material_key, ()):
+        if id(use.section) in seen:  # one section may use the material in several roles (PSHELL MID1..MID3)
+            continue
+        seen.add(id(use.section))
         for t, n in use.counts.items():
             total[t] = total.get(t, 0) + n
     return total

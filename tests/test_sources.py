@@ -7,7 +7,7 @@ import pytest
 from linter.includes import IncludePolicy, IncludeTracker
 from linter.model import DeckModel, ElementBlock, ElementSet, Lazy, Loc, MaterialRef, Section
 from linter.sources import SourceError, read_deck_bytes
-from linter.usage import material_usage, resolve_set, unassigned
+from linter.usage import element_types_of, material_usage, resolve_set, unassigned
 
 
 def test_utf8_bom_crlf(write_deck):
@@ -83,3 +83,7 @@ def test_set_resolution_and_usage():
     use = material_usage(m)["STEEL"]
     assert use[0].counts == {"C3D8": 1, "C3D20R": 1}
     assert unassigned(m) == {0: 3, 1: 2}
+    # one section using the material in several roles counts its elements once
+    m.sections[0].materials.append(MaterialRef("bending", "Steel", "STEEL", loc))
+    m.derived.pop("usage", None)
+    assert element_types_of(m, "STEEL") == {"C3D8": 1, "C3D20R": 1}
