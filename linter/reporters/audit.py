@@ -55,7 +55,7 @@ def _usage(mat: dict) -> str:
             return ", ".join(md(v) for v in val)
         if isinstance(val, str) and val:
             return md(val)
-    return "not recorded"
+    return "no elements"
 
 
 def _scope(out: list[str], result) -> None:
