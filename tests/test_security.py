@@ -394,3 +394,18 @@ def test_parser_crash_on_one_file_among_several(tmp_path, monkeypatch):
         assert reports[ok].materials and not reports[ok].incomplete
         assert not [f for f in reports[ok].findings if f.rule.startswith("internal/")]
     assert exit_code(r, "error") == 2
+
+
+def test_bulk_include_depth_limit(tmp_path):
+    need("bulk")
+    for i in range(1, 7):
+        nxt = f"INCLUDE 'level{i + 1}.bdf'\n" if i < 6 else "MAT1,1,210000.,,0.3\n"
+        (tmp_path / f"level{i}.bdf").write_text(f"$ level {i}\n{nxt}")
+    top = tmp_path / "top.bdf"
+    top.write_text("SOL 101\nCEND\nBEGIN BULK\nINCLUDE 'level1.bdf'\nENDDATA\n")
+    r = check_paths([str(top)], Config(max_include_depth=3))
+    deep = [f for f in r.findings if f.rule == "parse/include-too-deep"]
+    assert len(deep) == 1 and os.path.basename(deep[0].path) == "level3.bdf" and deep[0].line == 2, r.findings
+    r = check_paths([str(top)], Config(max_include_depth=16))
+    assert not [f for f in r.findings if f.rule == "parse/include-too-deep"]
+    assert len(r.files[0].materials) == 1
