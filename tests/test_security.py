@@ -368,8 +368,14 @@ def _has_cli() -> bool:
 # --------------------------------------------------------------------------- parser crash contained
 
 
-def test_parser_crash_on_one_file_among_several(tmp_path, monkeypatch):
+@pytest.mark.parametrize("jobs", [1, 2])
+def test_parser_crash_on_one_file_among_several(tmp_path, monkeypatch, jobs):
     mod = need("keyword")
+    if jobs > 1:
+        import multiprocessing as mp
+
+        if "fork" not in mp.get_all_start_methods():
+            pytest.skip("the monkeypatched parser reaches worker processes only through fork")
     paths = []
     for name in ("a.inp", "b.inp", "c.inp"):
         p = tmp_path / name
@@ -383,7 +389,7 @@ def test_parser_crash_on_one_file_among_several(tmp_path, monkeypatch):
         return real_parse(path, options)
 
     monkeypatch.setattr(mod, "parse", flaky)
-    r = check_paths(paths, Config(), jobs=1)
+    r = check_paths(paths, Config(), jobs=jobs)
     reports = {os.path.basename(f.path): f for f in r.files}
     assert set(reports) == {"a.inp", "b.inp", "c.inp"}
     crash = reports["b.inp"].findings
