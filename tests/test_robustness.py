@@ -502,6 +502,9 @@ def test_bad_files_do_not_stop_the_others(write_deck, tmp_path):
     "*NODE\n9, 1.2.3, 0., 0.\n",                                 # malformed coordinate
     "*NODE\n10, 7.85-9, --5, 0.\n",
     "*ELEMENT, TYPE=C3D8, ELSET=E2\n2, 1, 2, 3, 4, 5, 6, 7, " + "8" * 25 + "\n",
+    "*ELSET, ELSET=E, GENERATE\n, 0\n",                          # empty start of a generated range
+    "*ELSET, ELSET=E, GENERATE\n1, , 0\n",
+    "*NSET, NSET=N, GENERATE\n1, x\n",
 ])
 def test_keyword_mesh_numbers_out_of_range(write_deck, extra):
     need("keyword")
