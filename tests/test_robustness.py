@@ -262,7 +262,8 @@ def test_ten_megabyte_single_line(write_deck, fmt):
     r = run([p])
     assert r.files[0].materials, "the deck is still read"
     assert all(len(f.message) < 10_000 for f in r.findings), "messages must not quote the whole line"
-    assert hits(r, {"parse/too-many-fields", "parse/malformed-data"}, p, line) or fmt == "bulk", r.findings
+    if fmt == "keyword":     # ccx takes at most 16 entries on a line (formats.md 1.2); MYSTRAN keeps the first 10
+        assert hits(r, {"parse/too-many-fields", "parse/malformed-data"}, p, line), r.findings
 
 
 # --------------------------------------------------------------------------- numbers
