@@ -396,3 +396,118 @@ def test_free_field_with_two_values_in_one_field(write_deck):
     (iss,) = m.issues
     assert iss.code == "malformed-data" and "Z2" in iss.message and iss.loc.line == 4
     assert [r.role for r in m.sections[0].materials] == ["membrane", "bending", "transverse-shear"]
+
+
+# --------------------------------------------------------------------------- runs of mesh cards (big decks)
+
+
+def _strip_deck(n: int, odd: bool = False) -> str:
+    """A strip of n CHEXA (2 PIDs), a few CTETRA/CQUAD4, free field; ``odd`` mixes in lines runs must not take."""
+    out = [HEAD]
+    nx = n + 1
+    gid = 0
+    for i in range(nx):
+        for j in (0, 1):
+            for k in (0, 1):
+                gid += 1
+                out.append(f"GRID,{gid},,{i * 0.5},{j * 2.0 - 1.0},{k * 3.0}\n")
+                if odd and gid == 301:
+                    out.append("$ a comment between nodes\n")
+                if odd and gid == 2003:
+                    out.append("GRID*   9999999                         7.0             1.0\n*       2.0\n")
+    if odd:
+        out.append("GRID,12a,,1.,2.,3.\n")
+    for e in range(n):
+        a = 4 * e + 1
+        pid = 1 if e < n // 3 else 2
+        out.append(f"CHEXA,{e + 1},{pid},{a},{a + 4},{a + 6},{a + 2},{a + 1},{a + 5},+\n+,{a + 7},{a + 3}\n")
+        if odd and e == 700:
+            out.append(small("CHEXA", str(n + 5), "2", "1", "5", "7", "3", "2", "6") + small("", "8", "4"))
+        if odd and e == 900:
+            out.append("CHEXA,%d,3,1,5,7,3,2,6,+\n+,8,4,9,10,11,12,13,14,+\n+,15,16,17,18,19,20,21,22\n" % (n + 7))
+    for t in range(5):
+        out.append(f"CTETRA,{n + 100 + t},3,1,2,3,4\nCQUAD4,{n + 200 + t},4,1,2,3,4\n")
+    out.append("PSOLID,1,1\nPSOLID,2,1\nPSOLID,3,1\nPSHELL,4,1,1.\nMAT1,1,2.1+5,,.3,7.85-9\nENDDATA\n")
+    return "".join(out)
+
+
+def _summary(m) -> dict:
+    """What the parser read, with ids/connectivity/nodes sorted by id (their order is not part of the model)."""
+    g = m.geometry
+    gid, xyz = g.nodes.get()
+    o = np.argsort(gid, kind="stable")
+    gid, xyz = gid[o], xyz[o]
+    blocks = []
+    for b in m.element_blocks:
+        ids, conn = b.ids.get(), b.conn.get()
+        o = np.argsort(ids, kind="stable")
+        blocks.append((b.type, b.type_as_written, b.count, b.loc.line, b.elset, b.nodes, ids[o].tolist(),
+                       conn[o].tolist()))
+    return {"issues": [(i.code, i.message, i.loc.line) for i in m.issues], "blocks": blocks,
+            "sets": {k: (v.blocks, [x.line for x in v.defined_at]) for k, v in m.element_sets.items()},
+            "geo": (g.node_count, g.bbox_min.tolist(), g.bbox_max.tolist(), g.exact, g.note),
+            "nodes": (gid.tolist(), xyz.tolist()), "skipped": m.extras.get("skipped_cards")}
+
+
+@pytest.mark.parametrize("odd", [False, True])
+def test_runs_read_the_same_as_the_line_table(write_deck, monkeypatch, odd):
+    """Blocks read as runs of one card (small blocks here) give the same model as the line-by-line reader."""
+    from linter.parsers import bulk_lines, bulk_runs
+
+    p = write_deck("strip.bdf", _strip_deck(2000, odd))
+    monkeypatch.setattr(bulk_lines, "BLOCK", 1 << 40)       # no block fits: everything through the line table
+    ref = _summary(parse(p))
+    calls = []
+    real_summary = bulk_runs.element_summary
+    monkeypatch.setattr(bulk_runs, "element_summary", lambda *a: calls.append(1) or real_summary(*a))
+    monkeypatch.setattr(bulk_lines, "BLOCK", 4096)
+    got = _summary(parse(p))
+    assert len(calls) > 10                                  # element runs were taken
+    assert got == ref
+    if odd:   # the odd lines were read by the line table: the bad GRID id and the 3-line CHEXA20
+        assert any(i[0] == "malformed-data" and "GRID id" in i[1] for i in got["issues"])
+        assert ("CHEXA20", "CHEXA", 1) in [b[:3] for b in got["blocks"]]
+
+
+def test_counts_per_type_and_pid_with_runs(write_deck, monkeypatch):
+    """Counts per (type, PID) from run blocks are exact; totals agree with meshio.read (external reference)."""
+    meshio = pytest.importorskip("meshio")
+    from linter.parsers import bulk_lines
+
+    monkeypatch.setattr(bulk_lines, "BLOCK", 4096)
+    n = 3000
+    p = write_deck("strip.bdf", _strip_deck(n))
+    m = parse(p)
+    got = {(b.type, b.elset): b.count for b in m.element_blocks}
+    # by construction of _strip_deck: the first n // 3 hexahedra have PID 1, the rest PID 2
+    assert got == {("CHEXA8", "PID 1"): n // 3, ("CHEXA8", "PID 2"): n - n // 3, ("CTETRA4", "PID 3"): 5,
+                   ("CQUAD4", "PID 4"): 5}
+    first = {b.elset: b.loc.line for b in m.element_blocks}
+    assert first["PID 1"] == 4 + 4 * (n + 1) and first["PID 2"] == first["PID 1"] + 2 * (n // 3)
+    mesh = meshio.read(str(p), file_format="nastran")
+    ref = {}
+    for c in mesh.cells:
+        ref[c.type] = ref.get(c.type, 0) + len(c.data)
+    assert ref == {"hexahedron": n, "tetra": 5, "quad": 5}
+    assert m.geometry.node_count == len(mesh.points) == 4 * (n + 1)
+
+
+def test_sampled_bounding_box_is_marked_and_inside(write_deck, monkeypatch):
+    """Above the exact limit the box comes from evenly spaced GRID lines: inexact, noted, inside the true box."""
+    from linter.parsers import bulk_lines, bulk_mesh
+
+    monkeypatch.setattr(bulk_lines, "BLOCK", 4096)
+    monkeypatch.setattr(bulk_mesh, "EXACT_NODES_LIMIT", 1000)
+    monkeypatch.setattr(bulk_mesh, "SAMPLE_NODES", 200)
+    n = 3000
+    m = parse(write_deck("strip.bdf", _strip_deck(n)))
+    g = m.geometry
+    assert g.node_count == 4 * (n + 1)
+    assert not g.exact and "sampled" in g.note
+    gid, xyz = g.nodes.get()                                  # all nodes, read on demand
+    assert gid.size == g.node_count and np.array_equal(np.sort(gid), np.arange(1, g.node_count + 1))
+    lo, hi = xyz.min(axis=0), xyz.max(axis=0)
+    assert np.all(g.bbox_min >= lo) and np.all(g.bbox_max <= hi)
+    # evenly spaced samples of a strip 0.5 * n long: the estimate misses at most a few percent of it
+    assert g.bbox_max[0] - g.bbox_min[0] > 0.95 * (hi[0] - lo[0])
+    assert np.allclose(g.bbox_min[1:], lo[1:]) and np.allclose(g.bbox_max[1:], hi[1:])

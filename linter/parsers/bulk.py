@@ -23,8 +23,8 @@ from ..sources import SourceError, read_deck_bytes, text
 from . import bulk_case as bc
 from .bulk_cards import OTHER_MATS, PROPERTY_CARDS, SLOW_CARDS, THERMAL_MATS, Builder, Card, tables_of
 from .bulk_fields import FieldError, continuation_marker, real, split_line
-from .bulk_lines import Lines, classify, line_table
-from .bulk_mesh import ELEMENTS, FAST, build_elements, read_fast, build_geometry, read_slow_elements  # noqa: F401 (ELEMENTS re-exported)
+from .bulk_lines import Lines, carve, classify, line_table
+from .bulk_mesh import ELEMENTS, FAST, accept_run, build_elements, read_fast, build_geometry, read_slow_elements  # noqa: F401 (ELEMENTS re-exported)
 
 FORMAT = "bulk"
 EXTENSIONS = (".bdf", ".dat", ".nas", ".blk", ".bulk")
@@ -71,6 +71,7 @@ class _State:
     saw_bulk: bool = False
     saw_end: bool = False
     skipped: dict = field(default_factory=dict)
+    runs: dict = field(default_factory=dict)       # card name -> [(file bytes, bulk_lines.Run, path)]
 
 
 def parse(path: str, options) -> DeckModel:
@@ -136,13 +137,28 @@ def _scan(st: _State, path: str, display: str, src, mode: str) -> None:
     st.tracker.stack.append(os.path.realpath(path))
     if src.encoding not in ("utf-8",):
         model.issues.append(Issue("encoding", f"{display} is read as {src.encoding}, not UTF-8", Loc(display, 1)))
-    lines = line_table(src.data.replace(b"\t", b",") if b"\t" in src.data else src.data)
-    src.data = b""          # keep one copy of the file in memory (lines.data)
+    raw = src.data.replace(b"\t", b",") if b"\t" in src.data else src.data
+    src.data = b""          # keep one copy of the file in memory
+    begin = _BEGIN.search(raw) if mode == "exec" else None
+    lo_byte = 0
+    if begin is not None:
+        e = raw.find(b"\n", begin.start())
+        lo_byte = e + 1 if e >= 0 else len(raw)
+    runs: list = []
+    if mode == "bulk" or begin is not None:
+        pieces, runs = carve(raw, lo_byte, raw.count(b"\n", 0, lo_byte), lambda *a: accept_run(ELEMENTS, *a))
+    if runs:
+        for r in runs:
+            st.runs.setdefault(r.name, []).append((raw, r, display))
+        lines = line_table(raw, ([(0, lo_byte, 0)] if lo_byte else []) + pieces)
+    else:
+        lines = line_table(raw)
+    del raw
     data = lines.data
     n = lines.ls.size
     lo = 0
     if mode == "exec":
-        m = _BEGIN.search(data)
+        m = begin
         end_exec = int(np.searchsorted(lines.ls, m.start(), side="right")) - 1 if m else n
         _exec_lines(st, data, lines, 0, end_exec, display, path)
         if m is None:
@@ -159,10 +175,10 @@ def _exec_lines(st, data, lines, lo, hi, display, path) -> None:
         t = text(data[lines.ls[i]:lines.le[i]])
         if t[:7].upper() == "INCLUDE":
             written, used = _include_name(data, lines, i, hi)
-            _include(st, written, i + 1, display, path, "exec")
+            _include(st, written, lines.line(i), display, path, "exec")
             i += used
             continue
-        st.cc.line(t, Loc(display, i + 1))
+        st.cc.line(t, Loc(display, lines.line(i)))
         i += 1
 
 
@@ -227,7 +243,7 @@ def _bulk_lines(st: _State, lines: Lines, data: bytes, lo: int, hi: int, display
             i = int(idx[h])
             written, used = _include_name(data, lines, i, hi)
             consumed.update(range(i, i + used))
-            found.append((written, i + 1))
+            found.append((written, lines.line(i)))
         keep = ~np.isin(idx, np.fromiter(consumed, dtype=np.int64))
         hnames = np.zeros(idx.size, dtype="S8")
         hlarge = np.zeros(idx.size, dtype=bool)
@@ -241,7 +257,7 @@ def _bulk_lines(st: _State, lines: Lines, data: bytes, lo: int, hi: int, display
     heads = np.flatnonzero(head)
     if heads.size == 0 or heads[0] > 0:
         st.model.issues.append(Issue("malformed-data", "continuation line without an entry before it (ignored)",
-                                     Loc(display, int(idx[0]) + 1)))
+                                     Loc(display, lines.line(idx[0]))))
     if heads.size == 0:
         return
     nl = np.diff(np.concatenate((heads, [idx.size])))
@@ -268,7 +284,7 @@ def _bulk_lines(st: _State, lines: Lines, data: bytes, lo: int, hi: int, display
         mark = continuation_marker(t, bool(large[-1]) and nl[-1] == 1)
         if lone_large or (mark[:1] in ("+", "*") and mark):
             st.model.issues.append(Issue("truncated", "the file ends in the middle of an entry (a continuation "
-                                         "is announced but missing)", Loc(display, int(idx[heads[-1]]) + 1)))
+                                         "is announced but missing)", Loc(display, lines.line(idx[heads[-1]]))))
 
 
 def _slow_card(st: _State, data, lines, rows, display) -> None:
@@ -279,7 +295,7 @@ def _slow_card(st: _State, data, lines, rows, display) -> None:
         if j == 0:
             name, large = nm.replace("*", "").strip().upper(), lg
         f.extend(d)
-    st.cards.append(Card(name, f, Loc(display, int(rows[0]) + 1), large))
+    st.cards.append(Card(name, f, Loc(display, lines.line(rows[0])), large))
 
 
 # --------------------------------------------------------------------------- assembling the model

@@ -7,13 +7,15 @@ with ``+``, ``*``, a comma or a blank first field), 4.4 (``$`` starts a comment)
 """
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
+from typing import Callable, Optional
 
 import numpy as np
 
 from .bulk_fields import PAD, gather
 
-COMMA, SPACE, STAR, PLUS, DOLLAR = 44, 32, 42, 43, 36
+COMMA, SPACE, STAR, PLUS, DOLLAR, NEWLINE = 44, 32, 42, 43, 36, 10
 
 
 @dataclass
@@ -22,9 +24,26 @@ class Lines:
     ls: np.ndarray           # start offset of every physical line
     le: np.ndarray           # end offset (exclusive), comment cut off
     data: bytes = b""        # the file bytes (for C-speed substring searches)
+    no: Optional[np.ndarray] = None   # 0-based line number in the file of every line (None: the same as its index)
+
+    def line(self, i) -> int:
+        """1-based file line number of line ``i`` of this table."""
+        return int(i if self.no is None else self.no[i]) + 1
+
+    def lines(self, rows: np.ndarray) -> np.ndarray:
+        """1-based file line numbers of many lines of this table."""
+        return (rows if self.no is None else self.no[rows]) + 1
 
 
-def line_table(data: bytes) -> Lines:
+def line_table(data: bytes, pieces: Optional[list] = None) -> Lines:
+    """Line table of ``data``, or of only its byte ranges ``pieces`` [(start, end, first line index)] (whole lines)."""
+    if pieces is not None and not (len(pieces) == 1 and pieces[0][0] == 0 and pieces[0][1] == len(data)):
+        lines = line_table(b"".join(data[a:b] for a, b, _l in pieces))
+        starts = np.cumsum([0] + [b - a for a, b, _l in pieces[:-1]])
+        k = np.searchsorted(starts, lines.ls, side="right") - 1
+        first = np.searchsorted(lines.ls, starts)
+        lines.no = np.asarray([l0 for _a, _b, l0 in pieces], dtype=np.int64)[k] + (np.arange(lines.ls.size) - first[k])
+        return lines
     padded = data + b" " * PAD
     buf = np.frombuffer(padded, dtype=np.uint8)
     nl = np.flatnonzero(buf == 10)
@@ -149,3 +168,76 @@ def free_counts(lines: Lines, rows: np.ndarray, cn: np.ndarray) -> "np.ndarray |
     if d.find(b",,", a, b) >= 0 or d.find(b" ", a, b) >= 0 or (lines.buf[np.maximum(le - 1, 0)] == COMMA).any():
         return None
     return np.minimum(cn, 8)
+
+
+# --------------------------------------------------------------------------- runs of one mesh card
+
+#: bytes per block tried as a run (whole lines; a block never ends before a continuation line)
+BLOCK = 1 << 20
+_ENDDATA = re.compile(rb"(?i)enddata")
+
+
+@dataclass
+class Run:
+    """A block of whole lines that holds only free-field cards of one GRID/element name (read by ``bulk_mesh``)."""
+
+    name: str
+    start: int          # byte range [start, end) in the file
+    end: int
+    line: int           # 0-based line index of its first line
+    nlines: int
+    summary: object = None
+
+
+def carve(data: bytes, lo: int, line0: int, accept: Callable) -> tuple[list, list]:
+    """Split data[lo:] into blocks of ~BLOCK bytes: runs of one mesh card, and generic pieces for the line table.
+
+    A block is a run when every line starts with ``NAME,`` (GRID or an element card) or, for
+    elements, with ``+`` (a continuation), it holds no ``$ * \\r`` nor blank, and ``accept(name,
+    data, run)`` returns a summary (not None). Blocks after one that mentions ENDDATA, and the
+    last PAD bytes of the file, always stay generic. Returns (pieces, runs); pieces are
+    (start, end, first line index) and cover everything that is not a run.
+    """
+    n = len(data)
+    pieces: list = []
+    runs: list = []
+    p, line, gen, gen_line = lo, line0, lo, line0
+    limit = n - PAD
+    while p < limit:
+        q = data.find(b"\n", p + BLOCK - 1)
+        while 0 <= q < n - 1 and data[q + 1] == PLUS:       # never cut a card before its continuation
+            q = data.find(b"\n", q + 1)
+        if q < 0 or q + 1 > limit:
+            break
+        q += 1
+        nl = data.count(b"\n", p, q)
+        run = _run(data, p, q, line, nl, accept) if p > 0 and data[p - 1] == 10 else None
+        if run is not None:
+            if gen < p:
+                pieces.append((gen, p, gen_line))
+            runs.append(run)
+            gen, gen_line = q, line + nl
+        elif _ENDDATA.search(data, p, q):
+            break
+        p, line = q, line + nl
+    pieces.append((gen, n, gen_line))
+    return pieces, runs
+
+
+def _run(data: bytes, p: int, q: int, line: int, nl: int, accept: Callable) -> "Run | None":
+    head = data[p:p + 9]
+    c = head.find(b",")
+    if c <= 0:
+        return None
+    name = head[:c].decode("latin-1")
+    if not name.isupper() or not name.isalnum():
+        return None
+    for ch in (b"$", b"*", b"\r", b" ", b"\t"):
+        if data.find(ch, p, q) >= 0:
+            return None
+    heads = data.count(b"\n" + head[:c + 1], p - 1, q - 1)
+    if heads != nl and heads + data.count(b"\n+", p - 1, q - 1) != nl:
+        return None
+    run = Run(name, p, q, line, nl)
+    run.summary = accept(name, data, run, heads == nl)
+    return run if run.summary is not None else None

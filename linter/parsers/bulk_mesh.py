@@ -16,6 +16,7 @@ from . import bulk_case as bc
 from .bulk_cards import Card
 from .bulk_fields import FieldError, real, vec_int, vec_real
 from .bulk_lines import Lines, comma_counts, data_fields, free_counts
+from . import bulk_runs as br
 
 #: element card -> (most node fields, {node count threshold: type}) ; the type is the first whose limit fits
 ELEMENTS = {
@@ -27,6 +28,18 @@ ELEMENTS = {
 FAST = set(ELEMENTS) | {"GRID"}
 #: cards read column-wise at a time
 CHUNK = 200_000
+#: up to this many nodes the bounding box is exact; above it is estimated from SAMPLE_NODES evenly spaced GRID lines
+EXACT_NODES_LIMIT = 200_000
+SAMPLE_NODES = 20_000
+
+
+def accept_run(elements, name, data, run, all_heads):
+    """Summary of a run block of one mesh card (``bulk_lines.carve``), None when it must be read line by line."""
+    if name == "GRID":
+        return True if all_heads else None
+    if name in elements:
+        return br.element_summary(elements, name, data, run)
+    return None
 
 
 @dataclass
@@ -74,10 +87,10 @@ def _fields(part: _Part, rows: Optional[np.ndarray] = None, nf: int = 8):
 
 
 def _bad(st, part, bad, what):
-    if bad.any():
+    if st is not None and bad.any():
         i = int(np.flatnonzero(bad)[0])
         st.model.issues.append(Issue("malformed-data", f"{what} is not an integer ({int(bad.sum())} entries); "
-                                     "they are counted with id 0", Loc(part.path, int(part.rows[i, 0]) + 1)))
+                                     "they are counted with id 0", Loc(part.path, part.lines.line(part.rows[i, 0]))))
 
 
 def _elem_cols(st, name, part: _Part) -> None:
@@ -162,14 +175,31 @@ def _safe_real(t: str) -> float:
 
 
 def _lines_of(part: _Part) -> np.ndarray:
-    return part.cols["line"] if "line" in part.cols else part.rows[:, 0] + 1
+    return part.cols["line"] if "line" in part.cols else part.lines.lines(part.rows[:, 0])
 
 
-def _block_getters(name: str, pieces: list, ncols: int):
+def _block_getters(name: str, pieces: list, ncols: int, rpieces: list = (), key: int = 0):
     maxn = ELEMENTS[name][0]
 
+    def in_file_order(arrays: list, runs: list) -> np.ndarray:
+        """Generic pieces' arrays, then run blocks' arrays; with run blocks, sorted by (file, line)."""
+        out = np.concatenate(arrays + [r[1] for r in runs]).astype(np.int64)
+        if not runs:
+            return out
+        paths = [[p.cols["paths"][i] for i in sel] if "paths" in p.cols else [p.path] * sel.size for p, sel in pieces]
+        paths = [x for ps in paths for x in ps] + [path for (_d, _r, path), r in zip(rpieces, runs)
+                                                   for _i in range(r[0].size)]
+        rank = {}
+        prank = np.array([rank.setdefault(x, len(rank)) for x in paths], dtype=np.int64)
+        line = np.concatenate([_lines_of(p)[sel] for p, sel in pieces] + [r[0] for r in runs])
+        return out[np.lexsort((line, prank))]
+
+    def from_runs(i: int) -> list:
+        got = [br.element_arrays(ELEMENTS, name, d, r, key) for d, r, _path in rpieces]
+        return [(g[2], g[i]) for g in got]
+
     def ids():
-        return np.concatenate([p.cols["eid"][sel] for p, sel in pieces]).astype(np.int64)
+        return in_file_order([p.cols["eid"][sel] for p, sel in pieces], from_runs(0))
 
     def conn():
         out = []
@@ -183,35 +213,55 @@ def _block_getters(name: str, pieces: list, ncols: int):
             c = v.reshape(ns.shape)
             if c.shape[1] < maxn:
                 c = np.pad(c, ((0, 0), (0, maxn - c.shape[1])))
-            out.append(c)
-        return np.concatenate(out).astype(np.int64)[:, :ncols]
+            out.append(c[:, :maxn])
+        return in_file_order(out, from_runs(1))[:, :ncols]
 
     return ids, conn
 
 
+def _generic_groups(name: str, parts: list) -> dict:
+    """key (pid * 4 + type code) -> [count, loc, pieces] of the element parts read through the line table."""
+    out: dict = {}
+    if not parts:
+        return out
+    keys = np.concatenate([p.cols["pid"] * 4 + p.cols["tcode"] for p in parts])
+    pidx = np.concatenate([np.full(p.cols["pid"].size, i) for i, p in enumerate(parts)])
+    local = np.concatenate([np.arange(p.cols["pid"].size) for p in parts])
+    uk, first, inv = np.unique(keys, return_index=True, return_inverse=True)
+    order = np.argsort(inv, kind="stable")
+    bounds = np.concatenate(([0], np.cumsum(np.bincount(inv, minlength=uk.size))))
+    for g, key in enumerate(uk):
+        members = order[bounds[g]:bounds[g + 1]]
+        pieces = [(parts[i], local[members[pidx[members] == i]]) for i in np.unique(pidx[members])]
+        p0, i0 = parts[pidx[first[g]]], local[first[g]]
+        path = p0.cols["paths"][i0] if "paths" in p0.cols else p0.path
+        out[int(key)] = [int(members.size), Loc(path, int(_lines_of(p0)[i0])), pieces]
+    return out
+
+
 def build_elements(st) -> None:
     model = st.model
-    for name in sorted(n for n in st.parts if n != "GRID"):
-        parts = st.parts[name]
+    runs = getattr(st, "runs", {})
+    for name in sorted((set(st.parts) | set(runs)) - {"GRID"}):
         types = ELEMENTS[name][1] or ((0, name),)
-        keys = np.concatenate([p.cols["pid"] * 4 + p.cols["tcode"] for p in parts])
-        pidx = np.concatenate([np.full(p.cols["pid"].size, i) for i, p in enumerate(parts)])
-        local = np.concatenate([np.arange(p.cols["pid"].size) for p in parts])
-        uk, first, inv = np.unique(keys, return_index=True, return_inverse=True)
-        order = np.argsort(inv, kind="stable")
-        bounds = np.concatenate(([0], np.cumsum(np.bincount(inv, minlength=uk.size))))
-        for g, key in enumerate(uk):
-            members = order[bounds[g]:bounds[g + 1]]
-            pid, tcode = int(key) // 4, int(key) % 4
-            pieces = [(parts[i], local[members[pidx[members] == i]]) for i in np.unique(pidx[members])]
-            p0, i0 = parts[pidx[first[g]]], local[first[g]]
-            path = p0.cols["paths"][i0] if "paths" in p0.cols else p0.path
-            loc = Loc(path, int(_lines_of(p0)[i0]))
+        groups = _generic_groups(name, st.parts.get(name, []))
+        run_groups: dict = {}
+        for data, run, path in runs.get(name, []):
+            for key, (count, line) in run.summary.items():
+                g = run_groups.setdefault(key, [0, Loc(path, line), []])
+                g[0] += count
+                g[2].append((data, run, path))
+        for key in sorted(set(groups) | set(run_groups)):
+            count, loc, pieces = groups.get(key, [0, None, []])
+            rcount, rloc, rpieces = run_groups.get(key, [0, None, []])
+            if loc is None or (rloc is not None and rloc.path == loc.path and rloc.line < loc.line):
+                loc = rloc
+            pid, tcode = key // 4, key % 4
             etype = types[tcode][1]
             nodes = types[tcode][0] or ELEMENTS[name][0]
-            ids, conn = _block_getters(name, pieces, nodes)
+            ids, conn = _block_getters(name, pieces, nodes, rpieces, key)
             elset = f"PID {pid}"
-            model.element_blocks.append(ElementBlock(etype, name, int(members.size), loc, elset, nodes,
+            model.element_blocks.append(ElementBlock(etype, name, count + rcount, loc, elset, nodes,
                                                      Lazy(ids), Lazy(conn)))
             es = model.element_sets.get(elset)
             if es is None:
@@ -219,19 +269,63 @@ def build_elements(st) -> None:
             es.blocks.append(len(model.element_blocks) - 1)
 
 
+def _grid_run_part(st, data, run, path, sample: int = 0, report: bool = True) -> _Part:
+    lines = br.grid_lines(data, run, sample)
+    part = _Part(lines, np.arange(lines.ls.size)[:, None], True, path)
+    _grid_cols(st if report else None, "GRID", part)
+    return part
+
+
 def build_geometry(st, builder_cards: list[Card]) -> None:
     parts = st.parts.get("GRID", [])
-    model = st.model
-    if not parts:
+    runs = getattr(st, "runs", {}).get("GRID", [])
+    if not parts and not runs:
         return
-    gid = np.concatenate([p.cols["gid"] for p in parts])
-    cp = np.concatenate([p.cols["cp"] for p in parts])
-    cpblank = np.concatenate([p.cols["cpblank"] for p in parts])
-    xyz = np.concatenate([p.cols["xyz"] for p in parts])
+    total = sum(p.cols["gid"].size for p in parts) + sum(r.nlines for _d, r, _p in runs)
+    if total <= EXACT_NODES_LIMIT or not runs:
+        full = parts + [_grid_run_part(st, d, r, path) for d, r, path in runs]
+        geo, gid, xyz = _geometry(full, builder_cards, total, [], sort=bool(runs))
+        geo.nodes = Lazy.of((gid, xyz))
+        st.model.geometry = geo
+        return
+    exact, plain = [], []
+    for d, r, path in runs:
+        if br.GRID_ODD.search(d, r.start - 1, r.end):
+            exact.append(_grid_run_part(st, d, r, path))
+        else:
+            plain.append((d, r, path))
+    n_plain = sum(r.nlines for _d, r, _p in plain)
+    sampled = [_grid_run_part(st, d, r, path, max(1, round(SAMPLE_NODES * r.nlines / n_plain)), False)
+               for d, r, path in plain]
+    geo, _gid, _xyz = _geometry(parts + exact + sampled, builder_cards, total, plain)
+    if sampled:
+        n_s = sum(p.rows.shape[0] for p in sampled)
+        geo.exact = False
+        geo.note = "; ".join(x for x in (f"bounding box estimated from {n_s} sampled of the {n_plain} nodes "
+                                         f"of plain GRID lines (all {total - n_plain} other nodes read)", geo.note) if x)
+
+    def nodes():
+        allp = parts + exact + [_grid_run_part(st, d, r, path, 0, False) for d, r, path in plain]
+        _g, gid, xyz = _geometry(allp, builder_cards, total, [], sort=True)
+        return gid, xyz
+
+    geo.nodes = Lazy(nodes)
+    st.model.geometry = geo
+
+
+def _geometry(parts: list, builder_cards: list[Card], total: int, runs: list, sort: bool = False):
+    """(Geometry with count and box, gid, xyz with CP systems applied) of GRID parts."""
+    gid, cp, cpblank, xyz = (np.concatenate([p.cols[k] for p in parts]) for k in ("gid", "cp", "cpblank", "xyz"))
+    if sort:            # parts from run blocks: put the nodes in file order
+        paths = [x for p in parts for x in (p.cols["paths"] if "paths" in p.cols else [p.path] * p.cols["gid"].size)]
+        rank: dict = {}
+        prank = np.array([rank.setdefault(x, len(rank)) for x in paths], dtype=np.int64)
+        order = np.lexsort((np.concatenate([_lines_of(p) for p in parts]), prank))
+        gid, cp, cpblank, xyz = gid[order], cp[order], cpblank[order], xyz[order]
     grdset = [c for c in builder_cards if c.name == "GRDSET" and c.s(3)]
     if grdset:
         cp = np.where(cpblank, int(_safe_real(grdset[-1].s(3)) or 0), cp)
-    geo = Geometry(node_count=int(gid.size))
+    geo = Geometry(node_count=int(total))
     cords = [c for c in builder_cards if c.name.startswith("CORD")]
     note = []
     if np.any(cp != 0) or cords:
@@ -245,7 +339,14 @@ def build_geometry(st, builder_cards: list[Card]) -> None:
             except ValueError:
                 return None
             k = np.searchsorted(gb, gi)
-            return xb[k] if k < gb.size and gb[k] == gi else None
+            if k < gb.size and gb[k] == gi:
+                return xb[k]
+            one = br.find_grid(runs, gi) if runs else None     # a node that was not sampled
+            if one is None:
+                return None
+            part = _Part(one, np.zeros((1, 1), dtype=np.int64), True, "")
+            _grid_cols(None, "GRID", part)
+            return part.cols["xyz"][0] if not grdset or int(_safe_real(grdset[-1].s(3)) or 0) == 0 else None
 
         systems, failed = bc.cord_systems(cords, lookup)
         xyz, missing = bc.apply_systems(cp, xyz, systems)
@@ -255,5 +356,4 @@ def build_geometry(st, builder_cards: list[Card]) -> None:
                         "(not defined or not resolved)")
     geo.bbox_min, geo.bbox_max = xyz.min(axis=0), xyz.max(axis=0)
     geo.note = "; ".join(note)
-    geo.nodes = Lazy.of((gid.astype(np.int64), xyz))
-    model.geometry = geo
+    return geo, gid.astype(np.int64), xyz

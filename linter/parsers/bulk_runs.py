@@ -1,0 +1,133 @@
+"""Runs of GRID or element cards of a bulk deck (``bulk_lines.carve``), read block by block without a line table.
+
+A run block holds only free-field lines ``NAME,...`` (and ``+`` continuation lines for
+elements) with no comment, blank or empty field. Eagerly only what rules need is read:
+for elements the count per (type, PID) from the 2nd/3rd comma of each entry and its number
+of fields (formats.md 4.2, 5.8); for GRID the number of lines. Ids, connectivity and
+coordinates are parsed again from the file bytes on demand (``Lazy`` in the model), one
+block (~1 MB) at a time, so that no full-size temporary is made.
+"""
+from __future__ import annotations
+
+import re
+from typing import Optional
+
+import numpy as np
+
+from .bulk_fields import vec_int
+from .bulk_lines import COMMA, NEWLINE, PLUS, Lines, Run
+
+#: GRID lines whose id is not a plain integer or whose CP is not blank: such a block is read exactly
+GRID_ODD = re.compile(rb"\nGRID,(?:[^,\n]*[^0-9,\n]|[0-9]*,[^,\n])")
+
+
+def block_lines(data: bytes, run: Run) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(line starts, line ends, comma offsets) of a run block, as offsets into the file bytes."""
+    b = np.frombuffer(data, np.uint8, count=run.end - run.start, offset=run.start)
+    nl = np.flatnonzero(b == NEWLINE) + run.start
+    ls = np.concatenate(([run.start], nl[:-1] + 1))
+    com = np.flatnonzero(b == COMMA) + run.start
+    return ls, nl, com
+
+
+def _digits(buf: np.ndarray, s: np.ndarray, e: np.ndarray) -> Optional[np.ndarray]:
+    """Unsigned integers of the fields buf[s:e] (None when one is empty, too long or not all digits)."""
+    w = e - s
+    if w.size == 0 or w.min() < 1 or w.max() > 18:
+        return None
+    vals = np.zeros(s.size, dtype=np.int64)
+    for j in range(int(w.max())):
+        use = j < w
+        d = buf[np.where(use, s + j, s)].astype(np.int64) - 48
+        if ((d < 0) | (d > 9))[use].any():
+            return None
+        vals = np.where(use, vals * 10 + d, vals)
+    return vals
+
+
+def _cards(data: bytes, run: Run, maxn: int, types):
+    """Per entry of an element run block: (eid, pid, type code, head line index); None when not plain."""
+    buf = np.frombuffer(data, np.uint8)
+    ls, le, com = block_lines(data, run)
+    c0 = np.searchsorted(com, ls)
+    cn = np.searchsorted(com, le) - c0
+    hi = np.flatnonzero(buf[ls] != PLUS)
+    if hi.size == 0 or hi[0] != 0 or (cn[hi] < 3).any():
+        return None
+    k = c0[hi]
+    eid = _digits(buf, com[k] + 1, com[k + 1])
+    pid = _digits(buf, com[k + 1] + 1, com[k + 2]) if eid is not None else None
+    if pid is None:
+        return None
+    count = np.minimum(np.add.reduceat(np.minimum(cn, 8), hi) - 2, maxn)
+    tcode = np.zeros(hi.size, dtype=np.int64)
+    for t, (limit, _ty) in enumerate(types[:-1]):
+        tcode[count > limit] = t + 1
+    return eid, pid, tcode, hi, (ls, le, com, c0, cn)
+
+
+def element_summary(elements: dict, name: str, data: bytes, run: Run) -> Optional[dict]:
+    """{key = pid * 4 + type code: (count, 1-based line of the first entry)} of an element run block."""
+    maxn, types = elements[name]
+    got = _cards(data, run, maxn, types)
+    if got is None:
+        return None
+    _eid, pid, tcode, hi, _x = got
+    uk, first, counts = np.unique(pid * 4 + tcode, return_index=True, return_counts=True)
+    return {int(k): (int(c), run.line + int(hi[f]) + 1) for k, f, c in zip(uk, first, counts)}
+
+
+def element_arrays(elements: dict, name: str, data: bytes, run: Run, key: int
+                   ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(ids, connectivity (n, most node fields), 1-based lines) of the entries of one key of an element run block.
+
+    Node slots follow the line layout of the one-by-one reader: 8 data fields per physical line.
+    """
+    maxn, types = elements[name]
+    eid, pid, tcode, hi, (ls, le, com, c0, cn) = _cards(data, run, maxn, types)
+    sel = np.flatnonzero(pid * 4 + tcode == key)
+    nf = np.minimum(cn, 8)
+    line = np.repeat(np.arange(ls.size), nf)
+    kk = np.arange(line.size) - (np.cumsum(nf) - nf)[line]
+    fs = com[c0[line] + kk] + 1
+    nxt = np.minimum(c0[line] + kk + 1, com.size - 1)
+    fe = np.where(kk + 1 < cn[line], com[nxt], le[line])
+    head = np.zeros(ls.size, dtype=bool)
+    head[hi] = True
+    card = np.cumsum(head) - 1
+    slot = (line - hi[card[line]]) * 8 + kk - 2
+    ok = (slot >= 0) & (slot < maxn)
+    vals = vec_int(np.frombuffer(data, np.uint8), fs[ok], fe[ok])[0]
+    conn = np.zeros((hi.size, maxn), dtype=np.int64)
+    conn[card[line][ok], slot[ok]] = vals
+    return eid[sel], conn[sel], run.line + hi[sel] + 1
+
+
+def grid_lines(data: bytes, run: Run, sample: int = 0) -> Lines:
+    """Line table (over the file bytes, no copy) of all lines of a GRID run block, or of ``sample`` evenly spaced ones."""
+    buf = np.frombuffer(data, np.uint8)
+    if not sample or sample >= run.nlines:
+        ls, le, _com = block_lines(data, run)
+        return Lines(buf, ls, le, data, np.arange(run.nlines, dtype=np.int64) + run.line)
+    starts = [run.start]
+    step = (run.end - run.start) / sample
+    for i in range(1, sample):
+        a = data.find(b"\n", run.start + int(i * step) - 1, run.end) + 1
+        if 0 < a < run.end and a > starts[-1]:
+            starts.append(a)
+    ls = np.asarray(starts, dtype=np.int64)
+    le = np.asarray([data.find(b"\n", a, run.end) for a in starts], dtype=np.int64)
+    # line numbers of the sampled lines are not known without counting; they are never reported
+    return Lines(buf, ls, le, data, np.full(ls.size, run.line, dtype=np.int64))
+
+
+def find_grid(runs: list, gid: int) -> Optional[Lines]:
+    """Line table of the line ``GRID,gid,...`` in the GRID run blocks [(data, run, path)] (None when absent)."""
+    tag = b"\nGRID,%d," % gid
+    for data, r, _path in runs:
+        at = data.find(tag, r.start - 1, r.end)
+        if at >= 0:
+            end = data.find(b"\n", at + 1, r.end)
+            return Lines(np.frombuffer(data, np.uint8), np.array([at + 1]), np.array([end]), data,
+                         np.array([r.line]))
+    return None
