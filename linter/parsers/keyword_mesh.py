@@ -208,7 +208,7 @@ def read_elset(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: in
     for line in rd.lines(start, end, first_line):
         if generate:
             f = [x for x in line.fields]
-            if len(f) < 2 or not all(is_int(x) for x in f[:3] if x != ""):
+            if len(f) < 2 or not f[0] or not f[1] or not all(is_int(x) for x in f[:3] if x != ""):
                 rd.issue("malformed-data", f"*ELSET, GENERATE needs 'first, last[, increment]': {line.raw.strip()}",
                          line.loc.line)
                 continue
