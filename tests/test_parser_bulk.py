@@ -450,17 +450,20 @@ def _summary(m) -> dict:
 
 
 @pytest.mark.parametrize("odd", [False, True])
-def test_runs_read_the_same_as_the_line_table(write_deck, monkeypatch, odd):
+@pytest.mark.parametrize("small_step", [256, 1 << 16])
+def test_runs_read_the_same_as_the_line_table(write_deck, monkeypatch, odd, small_step):
     """Blocks read as runs of one card (small blocks here) give the same model as the line-by-line reader."""
     from linter.parsers import bulk_lines, bulk_runs
 
     p = write_deck("strip.bdf", _strip_deck(2000, odd))
-    monkeypatch.setattr(bulk_lines, "BLOCK", 1 << 40)       # no block fits: everything through the line table
-    ref = _summary(parse(p))
+    with monkeypatch.context() as mp:                       # no runs: everything through the line table
+        mp.setattr(bulk, "carve", lambda data, lo, line0, accept: ([(lo, len(data), line0)], []))
+        ref = _summary(parse(p))
     calls = []
     real_summary = bulk_runs.element_summary
     monkeypatch.setattr(bulk_runs, "element_summary", lambda *a: calls.append(1) or real_summary(*a))
     monkeypatch.setattr(bulk_lines, "BLOCK", 4096)
+    monkeypatch.setattr(bulk_lines, "SMALL", small_step)
     got = _summary(parse(p))
     assert len(calls) > 10                                  # element runs were taken
     assert got == ref

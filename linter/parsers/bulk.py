@@ -14,6 +14,7 @@ from __future__ import annotations
 import os
 import re
 from dataclasses import dataclass, field
+from typing import Optional
 
 import numpy as np
 
@@ -72,6 +73,7 @@ class _State:
     saw_end: bool = False
     skipped: dict = field(default_factory=dict)
     runs: dict = field(default_factory=dict)       # card name -> [(file bytes, bulk_lines.Run, path)]
+    nlines: Optional[int] = None                   # newlines in the top file
 
 
 def parse(path: str, options) -> DeckModel:
@@ -90,9 +92,9 @@ def parse(path: str, options) -> DeckModel:
         if data.strip():
             model.issues.append(Issue("no-bulk-section", "no BEGIN BULK (and no executive/case control): the file is "
                                       "read as bulk data; solvers need BEGIN BULK ... ENDDATA", Loc(display, 1)))
-    nlines = max(1, data.count(b"\n"))
     del data
     _scan(st, path, display, src, mode)
+    nlines = max(1, st.nlines or 0)
     if mode == "exec" and not st.saw_bulk:
         model.issues.append(Issue("no-bulk-section", "no BEGIN BULK line: the deck has no bulk data",
                                   Loc(display, 1)))
@@ -156,6 +158,8 @@ def _scan(st: _State, path: str, display: str, src, mode: str) -> None:
     del raw
     data = lines.data
     n = lines.ls.size
+    if st.nlines is None:       # the top file (its table is made before any include is read)
+        st.nlines = lines.line(n - 1) - 1
     lo = 0
     if mode == "exec":
         m = begin

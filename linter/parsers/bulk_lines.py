@@ -174,6 +174,8 @@ def free_counts(lines: Lines, rows: np.ndarray, cn: np.ndarray) -> "np.ndarray |
 
 #: bytes per block tried as a run (whole lines; a block never ends before a continuation line)
 BLOCK = 1 << 20
+#: bytes given to the line table where no run fits; also the shortest run cut before an odd line
+SMALL = 1 << 16
 _ENDDATA = re.compile(rb"(?i)enddata")
 
 
@@ -190,13 +192,15 @@ class Run:
 
 
 def carve(data: bytes, lo: int, line0: int, accept: Callable) -> tuple[list, list]:
-    """Split data[lo:] into blocks of ~BLOCK bytes: runs of one mesh card, and generic pieces for the line table.
+    """Split data[lo:] into runs of one mesh card (blocks of up to ~BLOCK bytes) and generic pieces.
 
-    A block is a run when every line starts with ``NAME,`` (GRID or an element card) or, for
-    elements, with ``+`` (a continuation), it holds no ``$ * \\r`` nor blank, and ``accept(name,
-    data, run)`` returns a summary (not None). Blocks after one that mentions ENDDATA, and the
-    last PAD bytes of the file, always stay generic. Returns (pieces, runs); pieces are
-    (start, end, first line index) and cover everything that is not a run.
+    A run holds no ``$ * \\r``, tab nor blank (a block is cut before the first line that has
+    one), and ``accept(name, data, run)`` returns a summary (not None) after checking that every
+    line starts with ``NAME,`` (GRID or an element card) or, for elements, with ``+`` (a
+    continuation); it sets ``run.nlines`` and may end the run earlier, before a line that starts
+    another entry. Where no run fits, SMALL bytes go to the generic pieces. Everything after a
+    generic piece that mentions ENDDATA, and the last PAD bytes of the file, stay generic.
+    Returns (pieces, runs); pieces are (start, end, first line index) and cover all but the runs.
     """
     n = len(data)
     pieces: list = []
@@ -204,27 +208,45 @@ def carve(data: bytes, lo: int, line0: int, accept: Callable) -> tuple[list, lis
     p, line, gen, gen_line = lo, line0, lo, line0
     limit = n - PAD
     while p < limit:
-        q = data.find(b"\n", p + BLOCK - 1)
-        while 0 <= q < n - 1 and data[q + 1] == PLUS:       # never cut a card before its continuation
-            q = data.find(b"\n", q + 1)
-        if q < 0 or q + 1 > limit:
-            break
-        q += 1
-        nl = data.count(b"\n", p, q)
-        run = _run(data, p, q, line, nl, accept) if p > 0 and data[p - 1] == 10 else None
+        q = _boundary(data, p + BLOCK, limit)
+        if q < 0:
+            q = _boundary_before(data, p, limit)
+        run = _run(data, p, q, line, accept) if q > p else None
         if run is not None:
             if gen < p:
                 pieces.append((gen, p, gen_line))
             runs.append(run)
-            gen, gen_line = q, line + nl
-        elif _ENDDATA.search(data, p, q):
+            p, line = run.end, line + run.nlines
+            gen, gen_line = p, line
+            continue
+        g = _boundary(data, p + SMALL, limit)
+        if g < 0 or g > q:
+            g = q
+        if g <= p or _ENDDATA.search(data, p, g):
             break
-        p, line = q, line + nl
+        line += data.count(b"\n", p, g)
+        p = g
     pieces.append((gen, n, gen_line))
     return pieces, runs
 
 
-def _run(data: bytes, p: int, q: int, line: int, nl: int, accept: Callable) -> "Run | None":
+def _boundary(data: bytes, pos: int, limit: int) -> int:
+    """Start of the first line at or after ``pos`` that does not continue an entry (``+``); -1 when none before limit."""
+    q = data.find(b"\n", pos - 1, limit)
+    while q >= 0 and q + 1 < limit and data[q + 1] == PLUS:
+        q = data.find(b"\n", q + 1, limit)
+    return q + 1 if 0 <= q and q + 1 < limit else -1
+
+
+def _boundary_before(data: bytes, p: int, limit: int) -> int:
+    """Start of the last line after p and before limit that does not continue an entry; -1 when none."""
+    r = data.rfind(b"\n", p, limit)
+    while r >= p and data[r + 1] == PLUS:
+        r = data.rfind(b"\n", p, r)
+    return r + 1 if r >= p else -1
+
+
+def _run(data: bytes, p: int, q: int, line: int, accept: Callable) -> "Run | None":
     head = data[p:p + 9]
     c = head.find(b",")
     if c <= 0:
@@ -232,12 +254,15 @@ def _run(data: bytes, p: int, q: int, line: int, nl: int, accept: Callable) -> "
     name = head[:c].decode("latin-1")
     if not name.isupper() or not name.isalnum():
         return None
+    end = q
     for ch in (b"$", b"*", b"\r", b" ", b"\t"):
-        if data.find(ch, p, q) >= 0:
-            return None
-    heads = data.count(b"\n" + head[:c + 1], p - 1, q - 1)
-    if heads != nl and heads + data.count(b"\n+", p - 1, q - 1) != nl:
+        f = data.find(ch, p, end)
+        if f >= 0:                              # end before the entry that holds it
+            end = data.rfind(b"\n", p, f) + 1
+            while p < end and data[end] == PLUS:
+                end = data.rfind(b"\n", p, end - 1) + 1
+    if end <= p or (end < q and end - p < SMALL):
         return None
-    run = Run(name, p, q, line, nl)
-    run.summary = accept(name, data, run, heads == nl)
+    run = Run(name, p, end, line, 0)
+    run.summary = accept(name, data, run)      # checks every line, sets run.nlines, may move run.end back
     return run if run.summary is not None else None

@@ -33,10 +33,10 @@ EXACT_NODES_LIMIT = 200_000
 SAMPLE_NODES = 20_000
 
 
-def accept_run(elements, name, data, run, all_heads):
+def accept_run(elements, name, data, run):
     """Summary of a run block of one mesh card (``bulk_lines.carve``), None when it must be read line by line."""
     if name == "GRID":
-        return True if all_heads else None
+        return br.grid_plain(data, run)
     if name in elements:
         return br.element_summary(elements, name, data, run)
     return None
@@ -288,12 +288,7 @@ def build_geometry(st, builder_cards: list[Card]) -> None:
         geo.nodes = Lazy.of((gid, xyz))
         st.model.geometry = geo
         return
-    exact, plain = [], []
-    for d, r, path in runs:
-        if br.GRID_ODD.search(d, r.start - 1, r.end):
-            exact.append(_grid_run_part(st, d, r, path))
-        else:
-            plain.append((d, r, path))
+    exact, plain = [], list(runs)     # run blocks hold plain GRID lines only (bulk_runs.grid_plain)
     n_plain = sum(r.nlines for _d, r, _p in plain)
     sampled = [_grid_run_part(st, d, r, path, max(1, round(SAMPLE_NODES * r.nlines / n_plain)), False)
                for d, r, path in plain]

@@ -9,7 +9,6 @@ block (~1 MB) at a time, so that no full-size temporary is made.
 """
 from __future__ import annotations
 
-import re
 from typing import Optional
 
 import numpy as np
@@ -17,8 +16,6 @@ import numpy as np
 from .bulk_fields import vec_int
 from .bulk_lines import COMMA, NEWLINE, PLUS, Lines, Run
 
-#: GRID lines whose id is not a plain integer or whose CP is not blank: such a block is read exactly
-GRID_ODD = re.compile(rb"\nGRID,(?:[^,\n]*[^0-9,\n]|[0-9]*,[^,\n])")
 
 
 def block_lines(data: bytes, run: Run) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -30,29 +27,72 @@ def block_lines(data: bytes, run: Run) -> tuple[np.ndarray, np.ndarray, np.ndarr
     return ls, nl, com
 
 
-def _digits(buf: np.ndarray, s: np.ndarray, e: np.ndarray) -> Optional[np.ndarray]:
-    """Unsigned integers of the fields buf[s:e] (None when one is empty, too long or not all digits)."""
+def _digits(buf: np.ndarray, s: np.ndarray, e: np.ndarray, values: bool = True) -> Optional[np.ndarray]:
+    """Unsigned integers of the fields buf[s:e] (None when one is empty, too long or not all digits).
+
+    Fields lie inside a run block, so ``s + 18`` never passes the end of the file bytes.
+    ``values=False``: only check (returns the field widths).
+    """
     w = e - s
     if w.size == 0 or w.min() < 1 or w.max() > 18:
         return None
-    vals = np.zeros(s.size, dtype=np.int64)
-    for j in range(int(w.max())):
-        use = j < w
-        d = buf[np.where(use, s + j, s)].astype(np.int64) - 48
-        if ((d < 0) | (d > 9))[use].any():
-            return None
-        vals = np.where(use, vals * 10 + d, vals)
+    width = int(w.max())
+    d = np.lib.stride_tricks.sliding_window_view(buf, width)[s] - np.uint8(48)     # uint8: not a digit -> > 9
+    used = np.arange(width)[None, :] < w[:, None]
+    if (d > 9)[used].any():
+        return None
+    if not values:
+        return w
+    vals = d[:, 0].astype(np.int64)
+    for j in range(1, width):
+        vals = np.where(used[:, j], vals * 10 + d[:, j], vals)
     return vals
+
+
+def _prefixed(buf: np.ndarray, ls: np.ndarray, prefix: bytes) -> np.ndarray:
+    """Which lines (starts ``ls``) begin with ``prefix``."""
+    ok = np.ones(ls.size, dtype=bool)
+    for j, ch in enumerate(prefix):
+        ok &= buf[ls + j] == ch
+    return ok
+
+
+def _shorten(buf: np.ndarray, run: Run, ls: np.ndarray, i: int) -> bool:
+    """End the run before line i when that line starts a new entry (a capital letter); False when it cannot."""
+    if i == 0 or not 65 <= buf[ls[i]] <= 90:
+        return False
+    run.end = int(ls[i])
+    return True
+
+
+def grid_plain(data: bytes, run: Run) -> Optional[bool]:
+    """True when every line of the block is ``GRID,id,,...`` with a plain integer id (blank CP); sets run.nlines."""
+    buf = np.frombuffer(data, np.uint8)
+    ls, _le, com = block_lines(data, run)
+    run.nlines = ls.size
+    bad = np.flatnonzero(~_prefixed(buf, ls, b"GRID,"))
+    if bad.size:
+        return grid_plain(data, run) if _shorten(buf, run, ls, int(bad[0])) else None
+    k = np.searchsorted(com, ls + 4)
+    if k[-1] + 2 >= com.size or (com[k + 2] != com[k + 1] + 1).any():
+        return None
+    return True if _digits(buf, com[k] + 1, com[k + 1], values=False) is not None else None
 
 
 def _cards(data: bytes, run: Run, maxn: int, types):
     """Per entry of an element run block: (eid, pid, type code, head line index); None when not plain."""
     buf = np.frombuffer(data, np.uint8)
     ls, le, com = block_lines(data, run)
-    c0 = np.searchsorted(com, ls)
-    cn = np.searchsorted(com, le) - c0
+    run.nlines = ls.size
     hi = np.flatnonzero(buf[ls] != PLUS)
-    if hi.size == 0 or hi[0] != 0 or (cn[hi] < 3).any():
+    if hi.size == 0 or hi[0] != 0:
+        return None
+    bad = np.flatnonzero(~_prefixed(buf, ls[hi], run.name.encode() + b","))
+    if bad.size:
+        return _cards(data, run, maxn, types) if _shorten(buf, run, ls, int(hi[bad[0]])) else None
+    c0 = np.searchsorted(com, ls)
+    cn = np.diff(np.append(c0, com.size))       # no comma lies on a newline
+    if (cn[hi] < 3).any():
         return None
     k = c0[hi]
     eid = _digits(buf, com[k] + 1, com[k + 1])
