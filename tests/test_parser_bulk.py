@@ -423,6 +423,10 @@ def _strip_deck(n: int, odd: bool = False) -> str:
         out.append(f"CHEXA,{e + 1},{pid},{a},{a + 4},{a + 6},{a + 2},{a + 1},{a + 5},+\n+,{a + 7},{a + 3}\n")
         if odd and e == 700:
             out.append(small("CHEXA", str(n + 5), "2", "1", "5", "7", "3", "2", "6") + small("", "8", "4"))
+        if odd and e == 1200:       # a trailing comma (a blank last field): read field by field
+            out.append("CHEXA,%d,2,1,5,7,3,2,6,+\n+,8,4,\n" % (n + 9))
+        if odd and e == 1500:       # a blank PID (the EID then)
+            out.append("CHEXA,%d,,1,5,7,3,2,6,+\n+,8,4\n" % (n + 11))
         if odd and e == 900:
             out.append("CHEXA,%d,3,1,5,7,3,2,6,+\n+,8,4,9,10,11,12,13,14,+\n+,15,16,17,18,19,20,21,22\n" % (n + 7))
     for t in range(5):
@@ -432,15 +436,15 @@ def _strip_deck(n: int, odd: bool = False) -> str:
 
 
 def _summary(m) -> dict:
-    """What the parser read, with ids/connectivity/nodes sorted by id (their order is not part of the model)."""
+    """What the parser read, with ids/connectivity/nodes sorted by id and values (their order is not part of the model)."""
     g = m.geometry
     gid, xyz = g.nodes.get()
-    o = np.argsort(gid, kind="stable")
+    o = np.lexsort((*xyz.T[::-1], gid))           # by id, then coordinates (ids may repeat)
     gid, xyz = gid[o], xyz[o]
     blocks = []
     for b in m.element_blocks:
         ids, conn = b.ids.get(), b.conn.get()
-        o = np.argsort(ids, kind="stable")
+        o = np.lexsort((*conn.T[::-1], ids))
         blocks.append((b.type, b.type_as_written, b.count, b.loc.line, b.elset, b.nodes, ids[o].tolist(),
                        conn[o].tolist()))
     return {"issues": [(i.code, i.message, i.loc.line) for i in m.issues], "blocks": blocks,

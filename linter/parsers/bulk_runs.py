@@ -90,6 +90,15 @@ def _cards(data: bytes, run: Run, maxn: int, types):
     bad = np.flatnonzero(~_prefixed(buf, ls[hi], run.name.encode() + b","))
     if bad.size:
         return _cards(data, run, maxn, types) if _shorten(buf, run, ls, int(hi[bad[0]])) else None
+    # every field non-blank (bulk_lines.free_counts): no ",," and no line ending with a comma
+    odd = buf[le - 1] == COMMA
+    twice = np.flatnonzero(np.diff(com) == 1)
+    if twice.size:
+        odd[np.searchsorted(ls, com[twice[0]], side="right") - 1] = True
+    if odd.any():
+        i = int(np.flatnonzero(odd)[0])
+        h = int(hi[np.searchsorted(hi, i, side="right") - 1])
+        return _cards(data, run, maxn, types) if _shorten(buf, run, ls, h) else None
     c0 = np.searchsorted(com, ls)
     cn = np.diff(np.append(c0, com.size))       # no comma lies on a newline
     if (cn[hi] < 3).any():
