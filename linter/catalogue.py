@@ -24,7 +24,7 @@ from functools import lru_cache
 from pathlib import Path
 from typing import Iterable, Optional
 
-import yaml
+from .safe_yaml import load_package_yaml
 
 DATA = Path(__file__).resolve().parent / "data" / "elements.yaml"
 
@@ -131,7 +131,7 @@ class Catalogue:
     @lru_cache(maxsize=1)
     def load() -> "Catalogue":
         with open(DATA, encoding="utf-8") as fh:
-            return Catalogue.from_mapping(yaml.safe_load(fh))
+            return Catalogue.from_mapping(load_package_yaml(fh.read()))
 
     # ----------------------------------------------------------------------------- look-ups
 

@@ -28,7 +28,7 @@ from pathlib import Path
 from typing import Any, Optional
 
 from .findings import SEVERITIES
-from .safe_yaml import load_yaml_file, load_yaml_text
+from .safe_yaml import load_package_yaml, load_yaml_file, load_yaml_text
 
 CONFIG_NAMES = ("deckwarden.yaml", ".deckwarden.yaml")
 DEFAULT_DIALECTS = {"keyword": "calculix", "bulk": "mystran"}
@@ -41,7 +41,7 @@ class ConfigError(ValueError):
 @functools.cache
 def default_thresholds() -> dict[str, Any]:
     text = resources.files("linter").joinpath("data/thresholds.yaml").read_text(encoding="utf-8")
-    return load_yaml_text(text, "thresholds.yaml")
+    return load_package_yaml(text)
 
 
 def _merge(base: dict, over: dict) -> dict:

@@ -48,3 +48,13 @@ def load_yaml_file(path) -> object:
     with open(path, "rb") as fh:
         raw = fh.read(MAX_YAML_BYTES + 1)
     return load_yaml_text(raw.decode("utf-8", "replace"), str(path))
+
+
+def load_package_yaml(text: str):
+    """Load one of deckwarden's own data files (trusted, shipped with the package).
+
+    Uses libyaml's safe loader when PyYAML was built with it (much faster at start-up), else the
+    pure-Python safe loader. Never used for user files: those go through :func:`load_yaml_file`.
+    """
+    loader = getattr(yaml, "CSafeLoader", None) or yaml.SafeLoader
+    return yaml.load(text, Loader=loader)  # noqa: S506 - a safe loader

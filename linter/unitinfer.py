@@ -31,7 +31,7 @@ from typing import Optional
 import numpy as np
 
 from .physics import units as U
-from .safe_yaml import load_yaml_text
+from .safe_yaml import load_package_yaml
 from .unitevidence import GROUP_OF, GROUPS, QUANTITY_DIMENSION, MaterialEvidence, ModelEvidence
 
 BASE = ("E", "K", "yield", "rho", "k", "c", "alpha")
@@ -65,7 +65,7 @@ class UnitData:
 @functools.cache
 def load_data() -> UnitData:
     text = resources.files("linter").joinpath("data/units.yaml").read_text(encoding="utf-8")
-    raw = load_yaml_text(text, "units.yaml")
+    raw = load_package_yaml(text)
     systems = []
     for name, d in raw["systems"].items():
         L, T = float(d["length_m"]), float(d["time_s"])
