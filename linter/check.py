@@ -34,8 +34,24 @@ def _head(path: str) -> bytes:
         return fh.read(SNIFF_BYTES)
 
 
-def discover(paths: list[str], result: RunResult, config: Config) -> list[tuple[str, str]]:
-    """(path, format) of every top-level deck under ``paths``; records problems in ``result``."""
+def _includes_task(args) -> list[str]:
+    f, fmt, config, policy = args
+    finder = getattr(parsers.get(fmt), "includes_of", None)
+    if finder is None:
+        return []
+    try:
+        opts = parsers.ParseOptions(dialect=config.dialect_for(fmt), include=policy,
+                                    max_file_size=config.max_file_size, display_path=f)
+        return [os.path.realpath(x) for x in finder(f, opts)]
+    except Exception:
+        return []
+
+
+def discover(paths: list[str], result: RunResult, config: Config, mapper=map) -> list[tuple[str, str]]:
+    """(path, format) of every top-level deck under ``paths``; records problems in ``result``.
+
+    ``mapper`` maps the include scan over the walked files (a process pool's ``map`` with ``--jobs``).
+    """
     explicit: list[tuple[str, str]] = []
     walked: list[tuple[str, str]] = []
     exts = parsers.all_extensions()
@@ -83,17 +99,8 @@ def discover(paths: list[str], result: RunResult, config: Config) -> list[tuple[
     if walked:
         included: set[str] = set()
         policy = make_policy(paths, config)
-        for f, fmt in walked:
-            mod = parsers.get(fmt)
-            finder = getattr(mod, "includes_of", None)
-            if finder is None:
-                continue
-            try:
-                opts = parsers.ParseOptions(dialect=config.dialect_for(fmt), include=policy,
-                                            max_file_size=config.max_file_size, display_path=f)
-                included.update(os.path.realpath(x) for x in finder(f, opts))
-            except Exception:
-                continue
+        for found in mapper(_includes_task, [(f, fmt, config, policy) for f, fmt in walked]):
+            included.update(found)
         walked = [(f, fmt) for f, fmt in walked if os.path.realpath(f) not in included]
     seen, out = set(), []
     for f, fmt in explicit + walked:
@@ -242,6 +249,13 @@ def _check_one(args):
     return check_file(path, fmt, config, policy)
 
 
+def _no_deck_check(decks: list, result: RunResult, paths: list[str]) -> list:
+    if not decks and not result.general:
+        result.general.append(_general("parse/no-deck-found",
+                                       f"no deck of a known format found in: {', '.join(paths)}", None))
+    return decks
+
+
 def check_paths(paths: list[str], config: Optional[Config] = None, jobs: Optional[int] = None) -> RunResult:
     from . import registry
 
@@ -252,22 +266,27 @@ def check_paths(paths: list[str], config: Optional[Config] = None, jobs: Optiona
         result.general.append(Finding(rule="internal/plugin-failed", severity="error",
                                       message=f"rule plugin {name!r} could not be loaded: {detail}",
                                       path=None, line=None, data={"plugin": name, "detail": detail}))
-    decks = discover(paths, result, config)
-    if not decks and not result.general:
-        result.general.append(_general("parse/no-deck-found",
-                                       f"no deck of a known format found in: {', '.join(paths)}", None))
-    policy = make_policy(paths, config)
     jobs = max(1, int(jobs or config.jobs or 1))
-    tasks = [(p, fmt, config, policy) for p, fmt in decks]
-    if jobs > 1 and len(tasks) > 1:
+    policy = make_policy(paths, config)
+    if jobs > 1 and (len(paths) > 1 or any(os.path.isdir(p) for p in paths)):
         import multiprocessing as mp
         from concurrent.futures import ProcessPoolExecutor
 
+        for fmt in parsers.names():  # import the parsers once, before the workers fork
+            try:
+                parsers.get(fmt)
+            except Exception:
+                pass
         ctx = mp.get_context("fork") if "fork" in mp.get_all_start_methods() else None
-        with ProcessPoolExecutor(max_workers=min(jobs, len(tasks)), mp_context=ctx) as pool:
-            result.files = list(pool.map(_check_one, tasks, chunksize=max(1, len(tasks) // (jobs * 8))))
+        with ProcessPoolExecutor(max_workers=jobs, mp_context=ctx) as pool:
+            def mapper(fn, items):
+                return pool.map(fn, items, chunksize=max(1, len(items) // (jobs * 8)))
+
+            decks = _no_deck_check(discover(paths, result, config, mapper), result, paths)
+            result.files = list(mapper(_check_one, [(p, fmt, config, policy) for p, fmt in decks]))
     else:
-        result.files = [_check_one(t) for t in tasks]
+        decks = _no_deck_check(discover(paths, result, config), result, paths)
+        result.files = [_check_one((p, fmt, config, policy)) for p, fmt in decks]
     result.incomplete = bool(result.general and any(f.rule in INCOMPLETE_RULES for f in result.general)) or \
         any(f.incomplete for f in result.files)
     return result

@@ -32,6 +32,10 @@ class Source:
     line_ends: str       # "lf", "crlf", "cr", "mixed"
 
 
+#: control characters that do not occur in text decks (TAB, LF, VT, FF, CR and ESC excluded)
+_CONTROL = bytes(b for b in range(32) if not (9 <= b <= 13 or b == 27))
+
+
 def looks_binary(head: bytes) -> bool:
     """NUL bytes (outside UTF-16) or many control characters mean the file is not text."""
     if not head:
@@ -40,7 +44,7 @@ def looks_binary(head: bytes) -> bool:
         return False
     if b"\x00" in head:
         return True
-    ctrl = sum(1 for b in head if b < 9 or 13 < b < 32 and b != 27)
+    ctrl = len(head) - len(head.translate(None, _CONTROL))
     return ctrl > len(head) * 0.05
 
 
