@@ -14,7 +14,7 @@ from typing import Optional
 import numpy as np
 
 from .bulk_fields import vec_int
-from .bulk_lines import COMMA, NEWLINE, PLUS, Lines, Run
+from .bulk_lines import COMMA, NEWLINE, PLUS, Lines, Run, line_table
 
 
 
@@ -65,54 +65,75 @@ def _shorten(buf: np.ndarray, run: Run, ls: np.ndarray, i: int) -> bool:
     return True
 
 
+def _first_nondigit(buf: np.ndarray, s: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(20-byte windows at s, offset of the first byte that is not a digit; 0 when none in the window)."""
+    win = np.lib.stride_tricks.sliding_window_view(buf, 20)[s]
+    return win, ((win - np.uint8(48)) > 9).argmax(axis=1)
+
+
 def grid_plain(data: bytes, run: Run) -> Optional[bool]:
     """True when every line of the block is ``GRID,id,,...`` with a plain integer id (blank CP); sets run.nlines."""
     buf = np.frombuffer(data, np.uint8)
-    ls, _le, com = block_lines(data, run)
+    b = np.frombuffer(data, np.uint8, count=run.end - run.start, offset=run.start)
+    ls = np.concatenate(([run.start], np.flatnonzero(b == NEWLINE)[:-1] + 1 + run.start))
     run.nlines = ls.size
     bad = np.flatnonzero(~_prefixed(buf, ls, b"GRID,"))
     if bad.size:
         return grid_plain(data, run) if _shorten(buf, run, ls, int(bad[0])) else None
-    k = np.searchsorted(com, ls + 4)
-    if k[-1] + 2 >= com.size or (com[k + 2] != com[k + 1] + 1).any():
+    # the id (1 to 18 digits), its comma, then a comma at once (blank CP)
+    win, f = _first_nondigit(buf, ls + 5)
+    ar = np.arange(ls.size)
+    if f.min() < 1 or f.max() > 18 or not ((win[ar, f] == COMMA) & (win[ar, f + 1] == COMMA)).all():
         return None
-    return True if _digits(buf, com[k] + 1, com[k + 1], values=False) is not None else None
+    return True
 
 
 def _cards(data: bytes, run: Run, maxn: int, types):
-    """Per entry of an element run block: (eid, pid, type code, head line index); None when not plain."""
+    """Per entry of an element run block: (pid, type code, head line index, line starts, ends, commas per line).
+
+    None when the block is not plain (and cannot end before the odd entry). Reads no comma offsets:
+    commas per line by a segment sum, EID and PID from 20-byte windows after the name.
+    """
     buf = np.frombuffer(data, np.uint8)
-    ls, le, com = block_lines(data, run)
+    b = np.frombuffer(data, np.uint8, count=run.end - run.start, offset=run.start)
+    le = np.flatnonzero(b == NEWLINE) + run.start
+    ls = np.concatenate(([run.start], le[:-1] + 1))
     run.nlines = ls.size
     hi = np.flatnonzero(buf[ls] != PLUS)
     if hi.size == 0 or hi[0] != 0:
         return None
-    bad = np.flatnonzero(~_prefixed(buf, ls[hi], run.name.encode() + b","))
+    prefix = run.name.encode() + b","
+    bad = np.flatnonzero(~_prefixed(buf, ls[hi], prefix))
     if bad.size:
         return _cards(data, run, maxn, types) if _shorten(buf, run, ls, int(hi[bad[0]])) else None
     # every field non-blank (bulk_lines.free_counts): no ",," and no line ending with a comma
     odd = buf[le - 1] == COMMA
-    twice = np.flatnonzero(np.diff(com) == 1)
-    if twice.size:
-        odd[np.searchsorted(ls, com[twice[0]], side="right") - 1] = True
+    cm = b == COMMA
+    pair = cm[1:] & cm[:-1]
+    if pair.any():
+        odd[np.searchsorted(ls, run.start + int(pair.argmax()), side="right") - 1] = True
     if odd.any():
         i = int(np.flatnonzero(odd)[0])
         h = int(hi[np.searchsorted(hi, i, side="right") - 1])
         return _cards(data, run, maxn, types) if _shorten(buf, run, ls, h) else None
-    c0 = np.searchsorted(com, ls)
-    cn = np.diff(np.append(c0, com.size))       # no comma lies on a newline
+    cn = np.add.reduceat(cm.view(np.uint8), ls - run.start, dtype=np.int32).astype(np.int64)
     if (cn[hi] < 3).any():
         return None
-    k = c0[hi]
-    eid = _digits(buf, com[k] + 1, com[k + 1])
-    pid = _digits(buf, com[k + 1] + 1, com[k + 2]) if eid is not None else None
-    if pid is None:
+    ar = np.arange(hi.size)
+    _w1, f1 = _first_nondigit(buf, ls[hi] + len(prefix))            # EID: digits, then the comma
+    if f1.min() < 1 or f1.max() > 18 or not (_w1[ar, f1] == COMMA).all():
         return None
+    w2, f2 = _first_nondigit(buf, ls[hi] + len(prefix) + f1 + 1)     # PID: digits, then the 3rd comma
+    if f2.min() < 1 or f2.max() > 18 or not (w2[ar, f2] == COMMA).all():
+        return None
+    pid = (w2[:, 0] - np.uint8(48)).astype(np.int64)
+    for j in range(1, int(f2.max())):
+        pid = np.where(f2 > j, pid * 10 + (w2[:, j] - np.uint8(48)), pid)
     count = np.minimum(np.add.reduceat(np.minimum(cn, 8), hi) - 2, maxn)
     tcode = np.zeros(hi.size, dtype=np.int64)
     for t, (limit, _ty) in enumerate(types[:-1]):
         tcode[count > limit] = t + 1
-    return eid, pid, tcode, hi, (ls, le, com, c0, cn)
+    return pid, tcode, hi, ls, le, cn
 
 
 def element_summary(elements: dict, name: str, data: bytes, run: Run) -> Optional[dict]:
@@ -121,7 +142,7 @@ def element_summary(elements: dict, name: str, data: bytes, run: Run) -> Optiona
     got = _cards(data, run, maxn, types)
     if got is None:
         return None
-    _eid, pid, tcode, hi, _x = got
+    pid, tcode, hi = got[:3]
     uk, first, counts = np.unique(pid * 4 + tcode, return_index=True, return_counts=True)
     return {int(k): (int(c), run.line + int(hi[f]) + 1) for k, f, c in zip(uk, first, counts)}
 
@@ -133,8 +154,13 @@ def element_arrays(elements: dict, name: str, data: bytes, run: Run, key: int
     Node slots follow the line layout of the one-by-one reader: 8 data fields per physical line.
     """
     maxn, types = elements[name]
-    eid, pid, tcode, hi, (ls, le, com, c0, cn) = _cards(data, run, maxn, types)
+    pid, tcode, hi, ls, le, cn = _cards(data, run, maxn, types)
     sel = np.flatnonzero(pid * 4 + tcode == key)
+    b = np.frombuffer(data, np.uint8, count=run.end - run.start, offset=run.start)
+    com = np.flatnonzero(b == COMMA) + run.start
+    c0 = np.searchsorted(com, ls)
+    k = c0[hi]
+    eid = _digits(np.frombuffer(data, np.uint8), com[k] + 1, com[k + 1])
     nf = np.minimum(cn, 8)
     line = np.repeat(np.arange(ls.size), nf)
     kk = np.arange(line.size) - (np.cumsum(nf) - nf)[line]
@@ -154,20 +180,20 @@ def element_arrays(elements: dict, name: str, data: bytes, run: Run, key: int
 
 def grid_lines(data: bytes, run: Run, sample: int = 0) -> Lines:
     """Line table (over the file bytes, no copy) of all lines of a GRID run block, or of ``sample`` evenly spaced ones."""
-    buf = np.frombuffer(data, np.uint8)
     if not sample or sample >= run.nlines:
         ls, le, _com = block_lines(data, run)
-        return Lines(buf, ls, le, data, np.arange(run.nlines, dtype=np.int64) + run.line)
+        return Lines(np.frombuffer(data, np.uint8), ls, le, data, np.arange(run.nlines, dtype=np.int64) + run.line)
     starts = [run.start]
     step = (run.end - run.start) / sample
     for i in range(1, sample):
         a = data.find(b"\n", run.start + int(i * step) - 1, run.end) + 1
         if 0 < a < run.end and a > starts[-1]:
             starts.append(a)
-    ls = np.asarray(starts, dtype=np.int64)
-    le = np.asarray([data.find(b"\n", a, run.end) for a in starts], dtype=np.int64)
-    # line numbers of the sampled lines are not known without counting; they are never reported
-    return Lines(buf, ls, le, data, np.full(ls.size, run.line, dtype=np.int64))
+    # a small copy of the sampled lines, so that the field search does not scan the whole block;
+    # their line numbers are not known without counting: they are never reported
+    lines = line_table(b"\n".join(data[a:data.find(b"\n", a, run.end)] for a in starts))
+    lines.no = np.full(lines.ls.size, run.line, dtype=np.int64)
+    return lines
 
 
 def find_grid(runs: list, gid: int) -> Optional[Lines]:
