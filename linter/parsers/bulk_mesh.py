@@ -312,9 +312,10 @@ def _geometry(parts: list, builder_cards: list[Card], total: int, runs: list, so
     """(Geometry with count and box, gid, xyz with CP systems applied) of GRID parts."""
     gid, cp, cpblank, xyz = (np.concatenate([p.cols[k] for p in parts]) for k in ("gid", "cp", "cpblank", "xyz"))
     if sort:            # parts from run blocks: put the nodes in file order
-        paths = [x for p in parts for x in (p.cols["paths"] if "paths" in p.cols else [p.path] * p.cols["gid"].size)]
         rank: dict = {}
-        prank = np.array([rank.setdefault(x, len(rank)) for x in paths], dtype=np.int64)
+        prank = np.concatenate([np.array([rank.setdefault(x, len(rank)) for x in p.cols["paths"]], dtype=np.int64)
+                                if "paths" in p.cols else np.full(p.cols["gid"].size, rank.setdefault(p.path, len(rank)))
+                                for p in parts])
         order = np.lexsort((np.concatenate([_lines_of(p) for p in parts]), prank))
         gid, cp, cpblank, xyz = gid[order], cp[order], cpblank[order], xyz[order]
     grdset = [c for c in builder_cards if c.name == "GRDSET" and c.s(3)]
