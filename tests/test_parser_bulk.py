@@ -410,7 +410,8 @@ def _strip_deck(n: int, odd: bool = False) -> str:
         for j in (0, 1):
             for k in (0, 1):
                 gid += 1
-                out.append(f"GRID,{gid},,{i * 0.5},{j * 2.0 - 1.0},{k * 3.0}\n")
+                x = f"{i * 0.5}" if not (odd and gid == 1501) else "%.1f+0" % (i * 0.5)    # compact exponent
+                out.append(f"GRID,{gid},,{x},{j * 2.0 - 1.0},{k * 3.0}\n")
                 if odd and gid == 301:
                     out.append("$ a comment between nodes\n")
                 if odd and gid == 2003:

@@ -270,6 +270,11 @@ def build_elements(st) -> None:
 
 
 def _grid_run_part(st, data, run, path, sample: int = 0, report: bool = True) -> _Part:
+    cols = br.grid_fast(data, run) if not sample else None
+    if cols is not None:
+        part = _Part(None, None, True, path)
+        part.cols = cols
+        return part
     lines = br.grid_lines(data, run, sample)
     part = _Part(lines, np.arange(lines.ls.size)[:, None], True, path)
     _grid_cols(st if report else None, "GRID", part)

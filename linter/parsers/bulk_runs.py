@@ -9,6 +9,7 @@ block (~1 MB) at a time, so that no full-size temporary is made.
 """
 from __future__ import annotations
 
+import warnings
 from typing import Optional
 
 import numpy as np
@@ -194,6 +195,34 @@ def grid_lines(data: bytes, run: Run, sample: int = 0) -> Lines:
     lines = line_table(b"\n".join(data[a:data.find(b"\n", a, run.end)] for a in starts))
     lines.no = np.full(lines.ls.size, run.line, dtype=np.int64)
     return lines
+
+
+def grid_fast(data: bytes, run: Run) -> Optional[dict]:
+    """GRID columns of a run block whose lines are all ``GRID,id,,x,y,z`` (5 commas), parsed in one C pass.
+
+    None when a line has other fields or a coordinate is not a plain number (the caller then reads
+    the block field by field); blank/NaN coordinates read 0 as there.
+    """
+    chunk = data[run.start:run.end]
+    n = run.nlines
+    if chunk.count(b",") != 5 * n:
+        return None
+    flat = chunk.replace(b"GRID,", b"").replace(b",,", b",").replace(b"\n", b",")[:-1]
+    del chunk
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        try:
+            arr = np.fromstring(flat, sep=",")
+        except ValueError:
+            return None
+    if arr.size != 4 * n or flat.count(b",") != 4 * n - 1:
+        return None
+    tab = arr.reshape(n, 4)
+    if not (np.abs(tab[:, 0]) < 2.0 ** 53).all():
+        return None
+    xyz = tab[:, 1:]
+    return {"gid": tab[:, 0].astype(np.int64), "cp": np.zeros(n, dtype=np.int64), "cpblank": np.ones(n, dtype=bool),
+            "xyz": np.where(np.isnan(xyz), 0.0, xyz), "line": run.line + 1 + np.arange(n)}
 
 
 def find_grid(runs: list, gid: int) -> Optional[Lines]:
