@@ -1,9 +1,12 @@
 """Parser of Nastran-style bulk-data decks (MYSTRAN dialect by default) into the neutral model.
 
-Streaming design: the file is read once; lines are classified by their first 8 bytes
-with numpy (``bulk_lines``); GRID and element cards are read column-wise per card name
-(``bulk_fields.vec_*``), everything else that matters (materials, properties, loads,
-parameters) card by card (``bulk_cards``); executive and case control in ``bulk_case``.
+Streaming design: the file is read once. Blocks of about 1 MB that hold only plain
+free-field GRID or element lines are taken out first as runs (``bulk_lines.carve``,
+read without a line table by ``bulk_runs``: counts per (type, PID), node count, a sampled
+box above 200k nodes). The rest gets a line table whose lines are classified by their first
+8 bytes with numpy (``bulk_lines``); its GRID and element cards are read column-wise per
+card name (``bulk_fields.vec_*``), everything else that matters (materials, properties,
+loads, parameters) card by card (``bulk_cards``); executive and case control in ``bulk_case``.
 Element ids and connectivity stay :class:`Lazy`. Syntax facts: formats.md sections 4-5.
 
 ``DeckModel.extras`` documented keys: ``"params"`` (every PARAM as written, name -> value

@@ -1,7 +1,8 @@
 """Byte-level line table of one bulk file: where lines start and end, which begin an entry, and card names.
 
-Everything here is numpy over the whole buffer (no Python object per line), so that a
-deck of millions of GRID/element lines is classified in a few passes. Facts:
+Everything here is numpy (no Python object per line). ``carve`` first takes runs of plain
+GRID/element lines out of the bulk section a block at a time (C-speed byte searches and
+1 MB numpy passes), so that the line table only covers the other lines. Facts:
 formats.md 4.2 (name in columns 1-8, ``*`` for large field), 4.3 (continuations start
 with ``+``, ``*``, a comma or a blank first field), 4.4 (``$`` starts a comment).
 """
