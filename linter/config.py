@@ -28,7 +28,7 @@ from pathlib import Path
 from typing import Any, Optional
 
 from .findings import SEVERITIES
-from .safe_yaml import load_package_yaml, load_yaml_file, load_yaml_text
+from .safe_yaml import load_package_yaml, load_yaml_file
 
 CONFIG_NAMES = ("deckwarden.yaml", ".deckwarden.yaml")
 DEFAULT_DIALECTS = {"keyword": "calculix", "bulk": "mystran"}

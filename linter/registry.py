@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import re
 import types
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Callable, Iterable, Optional
 
 from .findings import SEVERITIES

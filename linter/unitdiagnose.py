@@ -94,7 +94,6 @@ def diagnose_material(inf: Inference, ms: MaterialScore) -> list[Problem]:
 def _split(inf: Inference, ms: MaterialScore, loose_moduli: bool = False) -> Optional[Problem]:
     data, ref, ev = inf.data, inf.ref, ms.ev
     tol = float(data.scoring["material_tol"])
-    qtol = float(data.scoring["quantity_tol"])
     groups = [g for g in GROUPS if any(q in ev.values and QUANTITY_DIMENSION[q] for q in GROUPS[g])]
     # only a quantity that fits no class at all when read in the reference system can be the slipped one
     si = si_values(ev, data)

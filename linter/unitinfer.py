@@ -32,7 +32,7 @@ import numpy as np
 
 from .physics import units as U
 from .safe_yaml import load_package_yaml
-from .unitevidence import GROUP_OF, GROUPS, QUANTITY_DIMENSION, MaterialEvidence, ModelEvidence
+from .unitevidence import GROUPS, QUANTITY_DIMENSION, MaterialEvidence, ModelEvidence
 
 BASE = ("E", "K", "yield", "rho", "k", "c", "alpha")
 DERIVED = ("c0", "cd", "a", "rhoc")

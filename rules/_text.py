@@ -26,6 +26,25 @@ def num(x: Any) -> str:
     return f"{x:.4g}"
 
 
+def short(x: Any) -> str:
+    """A number with 4 significant digits ('inf', '-inf', 'None' for the non-numbers)."""
+    if x is None:
+        return "None"
+    x = float(x)
+    return f"{x:.4g}" if math.isfinite(x) else str(x)
+
+
+def row_label(row: dict) -> str:
+    """'T = 20 (line 12)' or 'line 12' for a derived row with ``temperature`` and ``line``."""
+    t = row.get("temperature")
+    return f"T = {short(t)} (line {row['line']})" if t is not None else f"line {row['line']}"
+
+
+def rows_text(items: list[str], limit: int = 5) -> str:
+    more = len(items) - limit
+    return "; ".join(items[:limit]) + (f"; and {more} more row(s)" if more > 0 else "")
+
+
 def at_t(t: Optional[float]) -> str:
     return "" if t is None or (isinstance(t, float) and math.isnan(t)) else f" at T = {num(t)}"
 

@@ -9,6 +9,7 @@ import math
 
 from linter.model import Loc
 from linter.registry import rule
+from ._text import row_label, rows_text, short
 
 LEMPRIERE = "Lempriere 1968, Poisson's ratio in orthotropic materials (physics.md 2.3)"
 JONES = "Jones 1999, Mechanics of Composite Materials, 2.2 (orthotropic compliance; physics.md 2.2)"
@@ -17,21 +18,6 @@ NAS = "Nastran bulk data MAT2, MAT8, MAT9 (formats.md 5.2)"
 FORM_WORDS = {"ortho": "orthotropic (D values)", "engineering": "engineering constants",
               "aniso": "anisotropic (21 D values)", "mat9": "MAT9 anisotropic", "mat2": "MAT2 2D anisotropic",
               "lamina": "MAT8 orthotropic lamina"}
-MAX_LISTED = 5
-
-
-def _fmt(x: float) -> str:
-    return f"{x:.4g}" if x is not None and math.isfinite(x) else str(x)
-
-
-def row_label(row: dict) -> str:
-    t = row.get("temperature")
-    return f"T = {_fmt(t)} (line {row['line']})" if t is not None else f"line {row['line']}"
-
-
-def _rows_text(items: list[str]) -> str:
-    more = len(items) - MAX_LISTED
-    return "; ".join(items[:MAX_LISTED]) + (f"; and {more} more row(s)" if more > 0 else "")
 
 
 def _entries(model):
@@ -56,9 +42,9 @@ def bound_failures(row: dict, part: str) -> list[str]:
     for name, v in row.get("moduli", {}).items():
         if name in ("G1Z", "G2Z"):
             if not math.isnan(v) and v <= 0:
-                out.append(f"{name} = {_fmt(v)} <= 0 (leave it blank for rigid transverse shear)")
+                out.append(f"{name} = {short(v)} <= 0 (leave it blank for rigid transverse shear)")
         elif part != "transverse-shear" and not (v > 0):
-            out.append(f"{name} = {_fmt(v)} <= 0")
+            out.append(f"{name} = {short(v)} <= 0")
     if part != "transverse-shear":
         for name, v in row.get("pairs", {}).items():
             if v >= 1:
@@ -91,7 +77,7 @@ def constant_bounds(model, ctx):
                 bad.append((row, fails))
         if not bad:
             continue
-        text = _rows_text([f"{row_label(r)}: " + ", ".join(f) for r, f in bad])
+        text = rows_text([f"{row_label(r)}: " + ", ".join(f) for r, f in bad])
         yield ctx.finding(
             f"{_where(mat, entry)}: the constants violate the stability bounds: {text}",
             Loc(_row_path(mat, entry), entry["line"]), material=mat.name,
@@ -126,7 +112,7 @@ def not_positive_definite(model, ctx):
                 continue
             items = []
             for r in rows:
-                s = f"{row_label(r)}: smallest eigenvalue {_fmt(r['eig_min'])} (largest {_fmt(r['eig_max'])})"
+                s = f"{row_label(r)}: smallest eigenvalue {short(r['eig_min'])} (largest {short(r['eig_max'])})"
                 if "determinant" in r and "E1" in r.get("moduli", {}):
                     s = (f"{row_label(r)}: 1 - nu12 nu21 - nu23 nu32 - nu31 nu13 - 2 nu21 nu32 nu13 = "
                          f"{r['determinant']:.4g} <= 0")
@@ -134,7 +120,7 @@ def not_positive_definite(model, ctx):
             data = {"form": entry["form"], "part": entry["part"],
                     "rows": [{k: r.get(k) for k in ("line", "temperature", "eig_min", "eig_max", "determinant")}
                              for r in rows]}
-            yield ctx.finding(f"{_where(mat, entry)}: the stiffness is not positive definite: {_rows_text(items)}",
+            yield ctx.finding(f"{_where(mat, entry)}: the stiffness is not positive definite: {rows_text(items)}",
                               Loc(_row_path(mat, entry), entry["line"]), material=mat.name, data=data,
                               restates=restates)
 
@@ -153,7 +139,7 @@ def ill_conditioned(model, ctx):
             continue
         rows = [r for r in entry["rows"] if r["positive_definite"] and r["condition"] > limit]
         if rows:
-            text = _rows_text([f"{row_label(r)}: condition number {r['condition']:.3g}" for r in rows])
+            text = rows_text([f"{row_label(r)}: condition number {r['condition']:.3g}" for r in rows])
             yield ctx.finding(f"{_where(mat, entry)}: stiffness eigenvalues span more than {limit:.3g}: {text}",
                               Loc(_row_path(mat, entry), entry["line"]), material=mat.name,
                               data={"limit": limit, "rows": [{"line": r["line"], "temperature": r["temperature"],
@@ -213,7 +199,7 @@ def conductivity_not_pd(model, ctx):
         for entry in mat.derived.get("conductivity", ()):
             rows = [r for r in entry["rows"] if not r["positive_definite"] and math.isfinite(r["eig_min"])]
             if rows:
-                text = _rows_text([f"{row_label(r)}: smallest eigenvalue {_fmt(r['eig_min'])}" for r in rows])
+                text = rows_text([f"{row_label(r)}: smallest eigenvalue {short(r['eig_min'])}" for r in rows])
                 yield ctx.finding(
                     f"material {mat.name}: the {entry['form']} conductivity is not positive definite: {text}",
                     Loc(mat.blocks[entry["block"]].loc.path, entry["line"]), material=mat.name,

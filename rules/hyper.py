@@ -10,27 +10,11 @@ import math
 from linter.model import Loc
 from linter.physics.hyper_stability import MODE_NAMES
 from linter.registry import rule
+from ._text import row_label, rows_text, short
 
 CCX_HYP = "CalculiX User's Manual *HYPERELASTIC, *HYPERFOAM; ccx hyperelastics.f (formats.md 2.5, 2.6)"
 ENERGIES = "physics.md 3.1-3.2 (initial moduli of the D-convention energies)"
 HILL = "Drucker/Hill stability of incompressible isotropic hyperelasticity (physics.md 3.4)"
-MAX_LISTED = 5
-
-
-def _fmt(x) -> str:
-    if x is None:
-        return "None"
-    return f"{x:.4g}" if math.isfinite(x) else ("inf" if x > 0 else str(x))
-
-
-def row_label(row: dict) -> str:
-    t = row.get("temperature")
-    return f"T = {_fmt(t)} (line {row['line']})" if t is not None else f"line {row['line']}"
-
-
-def _rows_text(items: list[str]) -> str:
-    more = len(items) - MAX_LISTED
-    return "; ".join(items[:MAX_LISTED]) + (f"; and {more} more row(s)" if more > 0 else "")
 
 
 def _entries(model):
@@ -61,8 +45,8 @@ def negative_initial_shear(model, ctx):
     for mat, entry, loc in _entries(model):
         rows = [r for r in entry["rows"] if "mu0" in r and not (r["mu0"] > 0)]
         if rows:
-            text = _rows_text([f"{row_label(r)}: " + (f"{r['invalid']}, mu0 is undefined" if r.get("invalid")
-                                                     else f"mu0 = {_fmt(r['mu0'])}") for r in rows])
+            text = rows_text([f"{row_label(r)}: " + (f"{r['invalid']}, mu0 is undefined" if r.get("invalid")
+                                                     else f"mu0 = {short(r['mu0'])}") for r in rows])
             yield ctx.finding(f"material {mat.name} ({entry['model']}): initial shear modulus is not positive: {text}",
                               loc, material=mat.name, defect=_mu_defect(mat, entry),
                               data={"model": entry["model"], "rows": [{"line": r["line"], "temperature":
@@ -82,9 +66,9 @@ def negative_bulk(model, ctx):
         if rows:
             items = []
             for r in rows:
-                neg = [f"D{i + 1} = {_fmt(d)}" for i, d in enumerate(r.get("D", ())) if d < 0]
-                items.append(f"{row_label(r)}: " + (", ".join(neg) + ", " if neg else "") + f"K0 = {_fmt(r['K0'])}")
-            yield ctx.finding(f"material {mat.name} ({entry['model']}): negative bulk modulus: {_rows_text(items)}",
+                neg = [f"D{i + 1} = {short(d)}" for i, d in enumerate(r.get("D", ())) if d < 0]
+                items.append(f"{row_label(r)}: " + (", ".join(neg) + ", " if neg else "") + f"K0 = {short(r['K0'])}")
+            yield ctx.finding(f"material {mat.name} ({entry['model']}): negative bulk modulus: {rows_text(items)}",
                               loc, material=mat.name,
                               data={"model": entry["model"], "rows": [{"line": r["line"], "temperature":
                                     r["temperature"], "D": r.get("D"), "K0": r["K0"]} for r in rows]})
@@ -109,13 +93,13 @@ def compressibility_defaulted(model, ctx):
             continue
         items = []
         for r in rows:
-            items.append(f"{row_label(r)}: D1 = {_fmt(r['D'][0])} -> K0/mu0 = {_fmt(r['K0_over_mu0'])}, "
+            items.append(f"{row_label(r)}: D1 = {short(r['D'][0])} -> K0/mu0 = {short(r['K0_over_mu0'])}, "
                          f"nu0 = {r['nu0']:.4f}")
         mu0 = rows[0]["mu0"]
         hint = f" (for K0/mu0 = 1000: D1 = {2 / (1000 * mu0):.3g})" if mu0 and mu0 > 0 else ""
         yield ctx.finding(
             f"material {mat.name} ({entry['model']}): zero compressibility is replaced by the solver's default "
-            f"D_i = (0.1/mu0)^i: {_rows_text(items)}; give D1 = 2/K0 explicitly{hint}",
+            f"D_i = (0.1/mu0)^i: {rows_text(items)}; give D1 = 2/K0 explicitly{hint}",
             loc, material=mat.name, defect=_default_defect(mat, entry), restates=(_mu_defect(mat, entry),),
             data={"model": entry["model"], "rows": [{k: r.get(k) for k in ("line", "temperature", "D", "D_used",
                                                                             "K0_over_mu0", "nu0")} for r in rows]})
@@ -145,7 +129,7 @@ def too_compressible(model, ctx):
         rows = [r for r in entry["rows"] if "mu0" in r and 0 < r["mu0"] < limit and r.get("K0", 0) > 0
                 and r["K0_over_mu0"] < ratio_min]
         if rows:
-            text = _rows_text([f"{row_label(r)}: K0/mu0 = {_fmt(r['K0_over_mu0'])}, nu0 = {r['nu0']:.4f}"
+            text = rows_text([f"{row_label(r)}: K0/mu0 = {short(r['K0_over_mu0'])}, nu0 = {r['nu0']:.4f}"
                                for r in rows])
             defaulted = any(r.get("D_defaulted") for r in rows)
             yield ctx.finding(
@@ -198,7 +182,7 @@ def unstable(model, ctx):
                  else f"only outside the working range {wrange[0]:g}-{wrange[1]:g}")
         yield ctx.finding(
             f"material {mat.name} ({entry['model']}) loses stability {where} "
-            f"(criterion: {bad[0][0].get('criterion', HILL)}, scanned {srange[0]:g}-{srange[1]:g}): {_rows_text(items)}",
+            f"(criterion: {bad[0][0].get('criterion', HILL)}, scanned {srange[0]:g}-{srange[1]:g}): {rows_text(items)}",
             loc, material=mat.name, severity="error" if error else None, restates=(_mu_defect(mat, entry),),
             data={"model": entry["model"], "criterion": bad[0][0].get("criterion"), "stretch_range": srange,
                   "working_range": wrange,
@@ -218,7 +202,7 @@ def foam_poisson_singular(model, ctx):
             continue
         rows = [r for r in entry["rows"] if any(not math.isfinite(b) for b in r.get("beta", ()))]
         if rows:
-            text = _rows_text([f"{row_label(r)}: " + ", ".join(
+            text = rows_text([f"{row_label(r)}: " + ", ".join(
                 f"nu{i + 1} = 0.5" for i, b in enumerate(r["beta"]) if not math.isfinite(b)) for r in rows])
             yield ctx.finding(f"material {mat.name} ({entry['model']}): a Poisson ratio of 0.5 makes "
                               f"beta = nu/(1 - 2 nu) infinite: {text}", loc, material=mat.name,

@@ -10,7 +10,7 @@ import difflib
 from linter.registry import rule
 from linter.usage import material_usage, resolve_set, unassigned
 
-from ._text import include_restates, listing, plural
+from ._text import include_restates, listing
 
 CCX_MAT = "CalculiX User's Manual, *MATERIAL and Materials (formats.md 2.1)"
 CCX_SECTIONS = "CalculiX User's Manual, *SOLID SECTION / *SHELL SECTION; ccx source solidsections.f (formats.md 1.5)"

@@ -172,7 +172,7 @@ def first_strain_not_zero(model, ctx):
 def strain_not_increasing(model, ctx):
     for mat, blk in plastic_blocks(model):
         for c in curves(blk):
-            s, e, t = c.stress, c.strain, c.temperature
+            e, t = c.strain, c.temperature
             bad = P.not_increasing(e)
             if not bad.size:
                 continue

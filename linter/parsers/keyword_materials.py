@@ -155,7 +155,6 @@ def read_material_card(rd: Reader, kw: KeywordLine, start: int, end: int, first_
     pending: list[str] = []
     pending_blanks: list[int] = []
     pending_loc = None
-    bad = False
     lines = list(rd.lines(start, end, first_line))
     user_law = opts.get("LAW") == "USER" or opts.get("HARDENING") == "USER"
     if not lines and kind not in ("user", "other", "damping") and not user_law:
@@ -163,7 +162,7 @@ def read_material_card(rd: Reader, kw: KeywordLine, start: int, end: int, first_
         return
     for line in lines:
         if pending_loc is None:
-            pending_loc, bad = line.loc, False
+            pending_loc = line.loc
         fields = line.fields
         for i, f in enumerate(fields):
             if f == "" and len(fields) > 1:
