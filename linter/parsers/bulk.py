@@ -3,7 +3,7 @@
 Streaming design: the file is read once. Blocks of about 1 MB that hold only plain
 free-field GRID or element lines are taken out first as runs (``bulk_lines.carve``,
 read without a line table by ``bulk_runs``: counts per (type, PID), node count, a sampled
-box above 200k nodes). The rest gets a line table whose lines are classified by their first
+box above 50k nodes). The rest gets a line table whose lines are classified by their first
 8 bytes with numpy (``bulk_lines``); its GRID and element cards are read column-wise per
 card name (``bulk_fields.vec_*``), everything else that matters (materials, properties,
 loads, parameters) card by card (``bulk_cards``); executive and case control in ``bulk_case``.

@@ -29,7 +29,7 @@ FAST = set(ELEMENTS) | {"GRID"}
 #: cards read column-wise at a time
 CHUNK = 200_000
 #: up to this many nodes the bounding box is exact; above it is estimated from SAMPLE_NODES evenly spaced GRID lines
-EXACT_NODES_LIMIT = 200_000
+EXACT_NODES_LIMIT = 50_000
 SAMPLE_NODES = 20_000
 
 

@@ -15,7 +15,9 @@ from .keyword_lex import KeywordLine, Reader, is_int
 #: used when the element catalogue is not available
 LONG_TYPES = {"C3D20": 20, "C3D20R": 20, "C3D20RI": 20, "DC3D20": 20, "C3D20T": 20, "C3D20RT": 20,
               "C3D15": 15, "DC3D15": 15, "F3D20": 20}
-EXACT_NODES_LIMIT = 200_000
+#: up to this many nodes the bounding box is exact; above it, estimated from SAMPLE_LINES evenly spaced
+#: node lines, so that the cost of the box does not grow with the deck (the box only serves plausibility)
+EXACT_NODES_LIMIT = 50_000
 SAMPLE_LINES = 20_000
 MAX_INT_DIGITS = 10
 MAX_GENERATE = 50_000_000
