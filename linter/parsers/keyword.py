@@ -15,6 +15,8 @@ import os
 import re
 from typing import Optional
 
+import numpy as np
+
 from ..includes import IncludeTracker
 from ..model import DeckModel, Include, Loc, Material, Procedure, Unchecked, norm_key
 from ..sources import SourceError, read_deck_bytes
@@ -31,6 +33,45 @@ MAX_NAME = 80
 #: a newline followed by a keyword, comment or blank line (the match ends where that line starts)
 _SPECIAL = re.compile(rb"\n(?=[ \t]*[*\n])")
 _SPECIAL_AT_START = re.compile(rb"[ \t]*[*\n]")
+_CHUNK = 1 << 23
+
+
+def _special_lines(data: bytes) -> tuple[list[int], list[int], int]:
+    """Where the lines start that begin (after blanks) with '*' or are empty, their 1-based line numbers,
+    and the number of newlines in ``data``: the matches of ``_SPECIAL``, found with numpy in chunks
+    (a few MB of temporaries at a time) instead of a regular-expression scan."""
+    arr = np.frombuffer(data, dtype=np.uint8)
+    n = arr.size
+    positions: list[int] = []
+    lines: list[int] = []
+    seen = 0
+    for lo in range(0, n, _CHUNK):
+        nl = np.flatnonzero(arr[lo:lo + _CHUNK] == 10) + lo
+        if not nl.size:
+            continue
+        head = nl + 1                                   # where each following line starts
+        nxt = np.zeros(head.shape, dtype=np.uint8)
+        ok = head < n
+        nxt[ok] = arr[head[ok]]
+        special = (nxt == 42) | ((nxt == 10) & ok)
+        blank = np.flatnonzero(((nxt == 32) | (nxt == 9)) & ok)
+        if blank.size:                                  # skip leading blanks, then look again
+            idx = head[blank] + 1
+            for _ in range(256):
+                c = arr[np.minimum(idx, n - 1)]
+                more = ((c == 32) | (c == 9)) & (idx < n)
+                if not more.any():
+                    break
+                idx[more] += 1
+            c = arr[np.minimum(idx, n - 1)]
+            special[blank] = ((c == 42) | (c == 10)) & (idx < n)
+        hit = np.flatnonzero(special)
+        positions.extend(head[hit].tolist())
+        lines.extend((hit + seen + 2).tolist())
+        seen += nl.size
+    return positions, lines, seen
+
+
 #: candidate *INCLUDE lines (a literal newline first keeps the scan fast; the file start is tried apart)
 _INCLUDE = re.compile(rb"\n[ \t]*\*[ \t]*[iI][ \t]*[nN][ \t]*[cC][^\n]*")
 _INCLUDE_AT_START = re.compile(rb"[ \t]*\*[ \t]*[iI][ \t]*[nN][ \t]*[cC][^\n]*")
@@ -164,8 +205,11 @@ class _Parser:
         kws: list[tuple[int, int, int]] = []        # (start, end of line, line number)
         skipped: list[int] = [0]                     # comment/blank lines before each keyword, cumulative
         n_skip, line, prev = 0, 1, 0
-        starts = [0] if _SPECIAL_AT_START.match(data) else []
-        for pos in itertools.chain(starts, (m.end() for m in _SPECIAL.finditer(data))):
+        positions, linenos, total_nl = _special_lines(data)
+        if _SPECIAL_AT_START.match(data):
+            positions.insert(0, 0)
+            linenos.insert(0, 1)
+        for pos, pos_line in zip(positions, linenos):
             c = data[pos:pos + 1]
             if c in b" \t":
                 lead = pos
@@ -177,7 +221,7 @@ class _Parser:
             if c2[:1] != b"*" or c2 == b"**":
                 n_skip += 1
                 continue
-            line += data.count(b"\n", prev, pos)
+            line = pos_line
             prev = pos
             eol = data.find(b"\n", pos)
             kws.append((pos, len(data) if eol < 0 else eol, line))
@@ -187,14 +231,14 @@ class _Parser:
         if pre is not None and self.last_kw is not None and len(self.tracker.stack) > 1:
             # an included file that starts with data lines continues the card before the *INCLUDE
             # (ccx 2.20 run: *NODE followed by *INCLUDE of a file of node lines reads those nodes)
-            n_pre = data.count(b"\n", 0, first) - (skipped[1] if kws else n_skip)
+            n_pre = (kws[0][2] - 1 if kws else total_nl) - (skipped[1] if kws else n_skip)
             self.keyword(rd, self.last_kw, 0, first, 1, max(0, n_pre), continuation=True)
         elif pre is not None:
             rd.issue("data-without-keyword", "data line(s) before the first keyword are ignored", pre.loc.line)
         if not kws and pre is None:
             rd.issue("empty-file", "the file holds no keyword and no data (empty or comments only)", 1)
             return
-        total_lines = data.count(b"\n", prev) if kws else 0
+        total_lines = total_nl - (line - 1) if kws else 0
         for i, (pos, eol, line) in enumerate(kws):
             start = eol + 1
             if i + 1 < len(kws):
