@@ -33,7 +33,7 @@ MAX_NAME = 80
 #: a newline followed by a keyword, comment or blank line (the match ends where that line starts)
 _SPECIAL = re.compile(rb"\n(?=[ \t]*[*\n])")
 _SPECIAL_AT_START = re.compile(rb"[ \t]*[*\n]")
-_CHUNK = 1 << 23
+_CHUNK = 1 << 21
 
 
 def _special_lines(data: bytes) -> tuple[list[int], list[int], int]:
