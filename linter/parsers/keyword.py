@@ -1,6 +1,6 @@
 """Keyword-deck (``.inp``) parser, CalculiX dialect.
 
-The file is read once as bytes; keyword lines are found with a byte-level regex and
+The file is read once as bytes; keyword lines are found with a chunked numpy scan and
 each keyword's data is handled as a byte range (``keyword_mesh`` for nodes and
 elements, without a Python object per item). Includes are read in place, as the
 solver does (``*INCLUDE`` text is inlined), with the included file's own path and
