@@ -756,3 +756,23 @@ def test_format_detection_picks_keyword(write_deck):
 
     p = write_deck("m.inp", CUBE)
     assert parsers.detect(str(p), p.read_bytes()) == "keyword"
+
+
+def test_large_node_block_box_is_sampled_and_marked(write_deck):
+    # above the exact limit the box comes from a sample: it must lie inside the true box (numpy min/max
+    # of all coordinates as the reference), be marked inexact, and say how many lines it used
+    import numpy as np
+
+    from linter.parsers import keyword_mesh as KM
+
+    n = KM.EXACT_NODES_LIMIT + 10_000
+    rng = np.random.default_rng(7)
+    xyz = np.round(rng.uniform(-50.0, 120.0, size=(n, 3)), 5)   # as written to the deck
+    text = "*NODE\n" + "".join(f"{i + 1}, {x:.5f}, {y:.5f}, {z:.5f}\n" for i, (x, y, z) in enumerate(xyz))
+    geo = parse(write_deck("big.inp", text)).geometry
+    assert geo.node_count == n and not geo.exact and "sample" in geo.note
+    assert np.all(geo.bbox_min >= xyz.min(axis=0) - 1e-9) and np.all(geo.bbox_max <= xyz.max(axis=0) + 1e-9)
+    # a sample of ~20k uniform points gets within a few per cent of the true extent
+    assert np.all(geo.bbox_max - geo.bbox_min > 0.95 * (xyz.max(axis=0) - xyz.min(axis=0)))
+    ids, coords = geo.nodes.get()
+    assert ids.size == n and np.allclose(coords.max(axis=0), xyz.max(axis=0), atol=1e-5)
