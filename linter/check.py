@@ -47,10 +47,19 @@ def _includes_task(args) -> list[str]:
         return []
 
 
+def _detect_task(path: str) -> tuple[Optional[str], Optional[str]]:
+    """(format or None, error text or None) of one walked file."""
+    try:
+        return parsers.detect(path, _head(path)), None
+    except OSError as exc:
+        return None, str(exc.strerror or exc)
+
+
 def discover(paths: list[str], result: RunResult, config: Config, mapper=map) -> list[tuple[str, str]]:
     """(path, format) of every top-level deck under ``paths``; records problems in ``result``.
 
-    ``mapper`` maps the include scan over the walked files (a process pool's ``map`` with ``--jobs``).
+    ``mapper`` maps the format sniffing and the include scan over the walked files (a process pool's
+    ``map`` with ``--jobs``).
     """
     explicit: list[tuple[str, str]] = []
     walked: list[tuple[str, str]] = []
@@ -60,16 +69,11 @@ def discover(paths: list[str], result: RunResult, config: Config, mapper=map) ->
             result.general.append(_general("parse/path-not-found", f"{p}: no such file or folder", p))
             continue
         if os.path.isdir(p):
-            for f in _walk(p, result):
-                if os.path.splitext(f)[1].lower() not in exts:
-                    continue
-                try:
-                    fmt = parsers.detect(f, _head(f))
-                except OSError as exc:
-                    result.general.append(_general("parse/file-unreadable",
-                                                   f"{f}: cannot read the file ({exc.strerror or exc})", f))
-                    continue
-                if fmt:
+            files = [f for f in _walk(p, result) if os.path.splitext(f)[1].lower() in exts]
+            for f, (fmt, err) in zip(files, mapper(_detect_task, files)):
+                if err:
+                    result.general.append(_general("parse/file-unreadable", f"{f}: cannot read the file ({err})", f))
+                elif fmt:
                     walked.append((f, fmt))
             continue
         try:
