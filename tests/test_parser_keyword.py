@@ -21,17 +21,10 @@ from linter.parsers import keyword as K
 from linter.parsers import keyword_mesh
 from linter.parsers.keyword_lex import to_float
 from linter.sources import SourceError
+from decks import CUBE_NODES
 
 CUBE = """*NODE, NSET=NALL
-1,0,0,0
-2,1,0,0
-3,1,1,0
-4,0,1,0
-5,0,0,1
-6,1,0,1
-7,1,1,1
-8,0,1,1
-*ELEMENT, TYPE=C3D8, ELSET=EALL
+""" + CUBE_NODES + """*ELEMENT, TYPE=C3D8, ELSET=EALL
 1,1,2,3,4,5,6,7,8
 """
 

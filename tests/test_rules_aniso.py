@@ -13,6 +13,7 @@ from linter.config import Config
 from linter.derived.aniso import derive_aniso
 from linter.model import DeckModel, Loc, Material, MaterialRef, PropertyBlock, Row, Section
 from linter.runner import run_rules
+from decks import CUBE_NODES
 
 P = "deck.inp"
 AS4_3D = (126.0, 11.0, 11.0, 0.28, 0.28, 0.4, 6.6, 6.6, 11.0 / 2.8)   # physics.md 2.4 (SHK 1998)
@@ -223,15 +224,7 @@ def test_short_row_is_skipped():
 # ---------------------------------------------------------------------------------------- end to end
 
 MESH = """*NODE
-1,0,0,0
-2,1,0,0
-3,1,1,0
-4,0,1,0
-5,0,0,1
-6,1,0,1
-7,1,1,1
-8,0,1,1
-*ELEMENT,TYPE=C3D8,ELSET=EALL
+""" + CUBE_NODES + """*ELEMENT,TYPE=C3D8,ELSET=EALL
 1,1,2,3,4,5,6,7,8
 """
 
@@ -327,3 +320,16 @@ ENDDATA
     got = sorted((f.rule, f.line, f.material) for f in found)
     assert got == [("aniso/constant-bounds", 18, "1"), ("aniso/missing-orientation", 22, "4")], got   # MAT8, PSOLID lines
     assert "nu12^2 * E2/E1 = 1.152 >= 1" in found[[f.rule for f in found].index("aniso/constant-bounds")].message
+
+
+def test_negative_orthotropic_conductivity_is_one_finding(write_deck):
+    # common practice: a conductivity term <= 0 is one defect; property/nonpositive reports it, so the
+    # positive-definiteness rule does not repeat it (one defect, one finding)
+    from linter.check import check_paths
+
+    deck = write_deck("k.inp", "*NODE\n" + CUBE_NODES + "*ELEMENT, TYPE=DC3D8, ELSET=E\n1, 1, 2, 3, 4, 5, 6, 7, 8\n"
+                      "*MATERIAL, NAME=K\n*CONDUCTIVITY, TYPE=ORTHO\n50., -3., 50.\n"
+                      "*SOLID SECTION, ELSET=E, MATERIAL=K\n")
+    rules = [f.rule for f in check_paths([str(deck)]).files[0].findings]
+    assert "property/nonpositive" in rules
+    assert "aniso/conductivity-not-positive-definite" not in rules

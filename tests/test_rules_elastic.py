@@ -4,6 +4,7 @@ from __future__ import annotations
 import pytest
 
 from builders import Deck
+from decks import CUBE_NODES
 
 
 # ------------------------------------------------------------------------------------ poisson-out-of-range
@@ -139,15 +140,7 @@ def test_near_incompressible_threshold_boundary():
 # ------------------------------------------------------------------------------------ end to end (keyword parser)
 
 HEX = """*NODE
-1, 0., 0., 0.
-2, 1., 0., 0.
-3, 1., 1., 0.
-4, 0., 1., 0.
-5, 0., 0., 1.
-6, 1., 0., 1.
-7, 1., 1., 1.
-8, 0., 1., 1.
-*ELEMENT, TYPE={etype}, ELSET=SEAL
+""" + CUBE_NODES + """*ELEMENT, TYPE={etype}, ELSET=SEAL
 1, 1, 2, 3, 4, 5, 6, 7, 8
 *MATERIAL, NAME=NBR
 *ELASTIC

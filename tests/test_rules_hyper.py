@@ -11,6 +11,7 @@ from linter.config import Config
 from linter.derived.hyper import derive_hyper
 from linter.model import DeckModel, Loc, Material, PropertyBlock, Row
 from linter.runner import run_rules
+from decks import CUBE_NODES
 
 P = "deck.inp"
 
@@ -193,15 +194,7 @@ def test_any_constants_give_findings_not_exceptions(form, vals):
 # ---------------------------------------------------------------------------------------- end to end
 
 MESH = """*NODE
-1,0,0,0
-2,1,0,0
-3,1,1,0
-4,0,1,0
-5,0,0,1
-6,1,0,1
-7,1,1,1
-8,0,1,1
-*ELEMENT,TYPE=C3D8,ELSET=EALL
+""" + CUBE_NODES + """*ELEMENT,TYPE=C3D8,ELSET=EALL
 1,1,2,3,4,5,6,7,8
 """
 

@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 from builders import Deck
+from decks import CUBE_NODES
 
 
 def _clean() -> Deck:
@@ -229,15 +230,7 @@ def test_no_mechanical_behaviour_skips_heat_elements():
 # ------------------------------------------------------------------------------------ end to end (keyword parser)
 
 DECK = """*NODE
-1, 0., 0., 0.
-2, 1., 0., 0.
-3, 1., 1., 0.
-4, 0., 1., 0.
-5, 0., 0., 1.
-6, 1., 0., 1.
-7, 1., 1., 1.
-8, 0., 1., 1.
-*ELEMENT, TYPE=C3D8I, ELSET=PART
+""" + CUBE_NODES + """*ELEMENT, TYPE=C3D8I, ELSET=PART
 1, 1, 2, 3, 4, 5, 6, 7, 8
 *ELEMENT, TYPE=C3D8I, ELSET=LOOSE
 2, 1, 2, 3, 4, 5, 6, 7, 8

@@ -5,6 +5,7 @@ import pytest
 from linter.physics import plastic as P
 from builders import Deck
 from linter.config import Config
+from decks import CUBE_NODES
 
 PLASTIC_RULES = ("plastic/first-strain-not-zero", "plastic/strain-not-increasing", "plastic/softening",
                  "plastic/total-strain-given", "plastic/zero-yield", "plastic/yield-vs-modulus")
@@ -154,15 +155,7 @@ def test_end_to_end_keyword_plastic(write_deck):
     from linter.check import check_paths
 
     deck = write_deck("pl.inp", """*NODE
-1, 0, 0, 0
-2, 1, 0, 0
-3, 1, 1, 0
-4, 0, 1, 0
-5, 0, 0, 1
-6, 1, 0, 1
-7, 1, 1, 1
-8, 0, 1, 1
-*ELEMENT, TYPE=C3D8, ELSET=PART
+""" + CUBE_NODES + """*ELEMENT, TYPE=C3D8, ELSET=PART
 1, 1, 2, 3, 4, 5, 6, 7, 8
 *MATERIAL, NAME=STEEL
 *ELASTIC

@@ -4,6 +4,7 @@ from __future__ import annotations
 import pytest
 
 from builders import Deck
+from decks import CUBE_NODES
 
 
 @pytest.mark.parametrize("kind", ["density", "conductivity", "specific_heat"])
@@ -122,15 +123,7 @@ def test_temperature_order_warning_in_other_dialects():
 # ------------------------------------------------------------------------------------ end to end (keyword parser)
 
 DECK = """*NODE
-1, 0., 0., 0.
-2, 1., 0., 0.
-3, 1., 1., 0.
-4, 0., 1., 0.
-5, 0., 0., 1.
-6, 1., 0., 1.
-7, 1., 1., 1.
-8, 0., 1., 1.
-*ELEMENT, TYPE=C3D8I, ELSET=PART
+""" + CUBE_NODES + """*ELEMENT, TYPE=C3D8I, ELSET=PART
 1, 1, 2, 3, 4, 5, 6, 7, 8
 *MATERIAL, NAME=STEEL
 *ELASTIC

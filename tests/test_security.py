@@ -17,6 +17,7 @@ from linter.check import INCOMPLETE_RULES, check_paths, exit_code
 from linter.config import Config, ConfigError
 from linter.findings import Finding, FileReport, RunResult
 from linter.safe_yaml import MAX_YAML_BYTES, YamlRefused, load_yaml_file, load_yaml_text
+from decks import CUBE_NODES
 
 
 def need(fmt: str):
@@ -45,15 +46,7 @@ def render(name: str, result) -> str:
 
 
 DECK = """*NODE, NSET=NALL
-1, 0., 0., 0.
-2, 1., 0., 0.
-3, 1., 1., 0.
-4, 0., 1., 0.
-5, 0., 0., 1.
-6, 1., 0., 1.
-7, 1., 1., 1.
-8, 0., 1., 1.
-*ELEMENT, TYPE=C3D8, ELSET=EALL
+""" + CUBE_NODES + """*ELEMENT, TYPE=C3D8, ELSET=EALL
 1, 1, 2, 3, 4, 5, 6, 7, 8
 {include}*SOLID SECTION, ELSET=EALL, MATERIAL={material}
 

@@ -1,0 +1,13 @@
+"""Small deck pieces shared by the tests."""
+
+#: the eight corner nodes of a unit cube (ids 1-8), as *NODE data lines: element connectivity
+#: "1, 2, 3, 4, 5, 6, 7, 8" makes one 8-node hexahedron of them
+CUBE_NODES = """1, 0., 0., 0.
+2, 1., 0., 0.
+3, 1., 1., 0.
+4, 0., 1., 0.
+5, 0., 0., 1.
+6, 1., 0., 1.
+7, 1., 1., 1.
+8, 0., 1., 1.
+"""
