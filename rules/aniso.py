@@ -199,8 +199,11 @@ def conductivity_not_pd(model, ctx):
         for entry in mat.derived.get("conductivity", ()):
             rows = [r for r in entry["rows"] if not r["positive_definite"] and math.isfinite(r["eig_min"])]
             if rows:
+                blk = mat.blocks[entry["block"]]
                 text = rows_text([f"{row_label(r)}: smallest eigenvalue {short(r['eig_min'])}" for r in rows])
+                # a non-positive diagonal term is reported by property/nonpositive: not twice
                 yield ctx.finding(
                     f"material {mat.name}: the {entry['form']} conductivity is not positive definite: {text}",
-                    Loc(mat.blocks[entry["block"]].loc.path, entry["line"]), material=mat.name,
-                    data={"rows": [{k: r[k] for k in ("line", "temperature", "eig_min", "eig_max")} for r in rows]})
+                    Loc(blk.loc.path, entry["line"]), material=mat.name,
+                    data={"rows": [{k: r[k] for k in ("line", "temperature", "eig_min", "eig_max")} for r in rows]},
+                    restates=(("nonpositive", blk.kind, mat.key, blk.loc.line),))
