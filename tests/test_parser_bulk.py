@@ -502,11 +502,11 @@ def test_counts_per_type_and_pid_with_runs(write_deck, monkeypatch):
 
 def test_sampled_bounding_box_is_marked_and_inside(write_deck, monkeypatch):
     """Above the exact limit the box comes from evenly spaced GRID lines: inexact, noted, inside the true box."""
-    from linter.parsers import bulk_lines, bulk_mesh
+    from linter.parsers import bulk_lines, sampling
 
     monkeypatch.setattr(bulk_lines, "BLOCK", 4096)
-    monkeypatch.setattr(bulk_mesh, "EXACT_NODES_LIMIT", 1000)
-    monkeypatch.setattr(bulk_mesh, "SAMPLE_NODES", 200)
+    monkeypatch.setattr(sampling, "EXACT_NODES_LIMIT", 1000)
+    monkeypatch.setattr(sampling, "MIN_SAMPLE", 200)
     n = 3000
     m = parse(write_deck("strip.bdf", _strip_deck(n)))
     g = m.geometry

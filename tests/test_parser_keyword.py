@@ -351,8 +351,10 @@ def test_nodes_bounding_box_and_lazy_coordinates(deck):
 
 
 def test_large_node_card_uses_a_sample(deck, monkeypatch):
-    monkeypatch.setattr(keyword_mesh, "EXACT_NODES_LIMIT", 10)
-    monkeypatch.setattr(keyword_mesh, "SAMPLE_LINES", 5)
+    from linter.parsers import sampling
+
+    monkeypatch.setattr(sampling, "EXACT_NODES_LIMIT", 10)
+    monkeypatch.setattr(sampling, "MIN_SAMPLE", 5)
     m = deck("*NODE\n" + "\n".join(f"{i},{i}.,0,{-i}" for i in range(1, 101)) + "\n")
     g = m.geometry
     assert g.node_count == 100 and not g.exact and "sample" in g.note
@@ -756,16 +758,16 @@ def test_large_node_block_box_is_sampled_and_marked(write_deck):
     # of all coordinates as the reference), be marked inexact, and say how many lines it used
     import numpy as np
 
-    from linter.parsers import keyword_mesh as KM
+    from linter.parsers import sampling
 
-    n = KM.EXACT_NODES_LIMIT + 10_000
+    n = sampling.EXACT_NODES_LIMIT + 10_000
     rng = np.random.default_rng(7)
     xyz = np.round(rng.uniform(-50.0, 120.0, size=(n, 3)), 5)   # as written to the deck
     text = "*NODE\n" + "".join(f"{i + 1}, {x:.5f}, {y:.5f}, {z:.5f}\n" for i, (x, y, z) in enumerate(xyz))
     geo = parse(write_deck("big.inp", text)).geometry
     assert geo.node_count == n and not geo.exact and "sample" in geo.note
     assert np.all(geo.bbox_min >= xyz.min(axis=0) - 1e-9) and np.all(geo.bbox_max <= xyz.max(axis=0) + 1e-9)
-    # a sample of ~20k uniform points gets within a few per cent of the true extent
+    # a sample of a few per cent of 60k uniform points gets within a few per cent of the true extent
     assert np.all(geo.bbox_max - geo.bbox_min > 0.95 * (xyz.max(axis=0) - xyz.min(axis=0)))
     ids, coords = geo.nodes.get()
     assert ids.size == n and np.allclose(coords.max(axis=0), xyz.max(axis=0), atol=1e-5)

@@ -27,6 +27,10 @@ def real(text: str) -> Optional[float]:
     Integers are accepted too (many dialects read them where a real is expected); the
     caller can tell with :func:`is_integer_text`. Raises FieldError on anything else.
     """
+    try:                      # most fields are plain numbers; float() accepts none that the rewrite below would change
+        return float(text)
+    except ValueError:
+        pass
     s = text.strip().upper()
     if not s:
         return None

@@ -15,8 +15,9 @@ from ..model import ElementBlock, ElementSet, Geometry, Issue, Lazy, Loc
 from . import bulk_case as bc
 from .bulk_cards import Card
 from .bulk_fields import FieldError, real, vec_int, vec_real
-from .bulk_lines import Lines, comma_counts, data_fields, free_counts
+from .bulk_lines import Lines, comma_counts, data_fields, free_counts, line_table
 from . import bulk_runs as br
+from . import sampling
 
 #: element card -> (most node fields, {node count threshold: type}) ; the type is the first whose limit fits
 ELEMENTS = {
@@ -28,9 +29,6 @@ ELEMENTS = {
 FAST = set(ELEMENTS) | {"GRID"}
 #: cards read column-wise at a time
 CHUNK = 200_000
-#: up to this many nodes the bounding box is exact; above it is estimated from SAMPLE_NODES evenly spaced GRID lines
-EXACT_NODES_LIMIT = 50_000
-SAMPLE_NODES = 20_000
 
 
 def accept_run(elements, name, data, run):
@@ -136,8 +134,7 @@ def read_slow_elements(st, cards: list[Card]) -> None:
         by.setdefault(c.name, []).append(c)
     for name, cs in by.items():
         part = _Part(None, None, False, cs[0].loc.path)
-        ints = lambda n, c: int(real(c.s(n)) or 0) if c.s(n) else None  # noqa: E731
-        try_int = lambda n, c: _safe(ints, n, c)  # noqa: E731
+        try_int = lambda n, c: _int_field(c.f[n - 2]) if 0 <= n - 2 < len(c.f) else 0  # noqa: E731
         if name == "GRID":
             part.cols = {"gid": np.array([try_int(2, c) or 0 for c in cs]),
                          "cp": np.array([try_int(3, c) or 0 for c in cs]),
@@ -147,7 +144,8 @@ def read_slow_elements(st, cards: list[Card]) -> None:
             maxn, types = ELEMENTS[name]
             eid = np.array([try_int(2, c) or 0 for c in cs])
             pid = np.array([try_int(3, c) if c.s(3) else try_int(2, c) or 0 for c in cs])
-            conn = np.array([[try_int(4 + j, c) or 0 for j in range(maxn)] for c in cs], dtype=np.int64)
+            conn = np.array([[_int_field(x) for x in c.f[2:2 + maxn]] + [0] * (maxn - len(c.f[2:2 + maxn]))
+                             for c in cs], dtype=np.int64)
             count = (conn != 0).sum(axis=1)
             tcode = np.zeros(len(cs), dtype=np.int64)
             for t, (limit, _ty) in enumerate(types[:-1]):
@@ -158,12 +156,18 @@ def read_slow_elements(st, cards: list[Card]) -> None:
         st.parts.setdefault(name, []).append(part)
 
 
-def _safe(fn, n, c):
-    try:
-        v = fn(n, c)
-    except (FieldError, ValueError, OverflowError):
+def _int_field(text: str) -> int:
+    """An integer field of a mesh card read one by one: 0 when blank, not a number, or too large."""
+    if not text or text.isspace():
         return 0
-    return v if v is None or abs(v) < 2 ** 62 else 0
+    try:
+        v = int(text)
+    except ValueError:
+        try:
+            v = int(real(text) or 0)
+        except (FieldError, ValueError, OverflowError):
+            return 0
+    return v if abs(v) < 2 ** 62 else 0
 
 
 def _safe_real(t: str) -> float:
@@ -269,13 +273,22 @@ def build_elements(st) -> None:
             es.blocks.append(len(model.element_blocks) - 1)
 
 
-def _grid_run_part(st, data, run, path, sample: int = 0, report: bool = True) -> _Part:
-    cols = br.grid_fast(data, run) if not sample else None
+def _grid_run_part(st, data, run, path, sample: tuple = (), report: bool = True) -> _Part:
+    """GRID columns of a run block, or of a sample (want, pieces) of its lines (``sampling``)."""
+    if sample:
+        chunk, srun = br.grid_sample(data, run, *sample)
+        cols = br.grid_fast(chunk, srun)
+    else:
+        cols = br.grid_fast(data, run)
     if cols is not None:
         part = _Part(None, None, True, path)
         part.cols = cols
         return part
-    lines = br.grid_lines(data, run, sample)
+    if sample:       # a padded line table of the copy; the sampled lines are never reported
+        lines = line_table(chunk[:-1])
+        lines.no = np.full(lines.ls.size, run.line, dtype=np.int64)
+    else:
+        lines = br.grid_lines(data, run)
     part = _Part(lines, np.arange(lines.ls.size)[:, None], True, path)
     _grid_cols(st if report else None, "GRID", part)
     return part
@@ -287,7 +300,7 @@ def build_geometry(st, builder_cards: list[Card]) -> None:
     if not parts and not runs:
         return
     total = sum(p.cols["gid"].size for p in parts) + sum(r.nlines for _d, r, _p in runs)
-    if total <= EXACT_NODES_LIMIT or not runs:
+    if total <= sampling.EXACT_NODES_LIMIT or not runs:
         full = parts + [_grid_run_part(st, d, r, path) for d, r, path in runs]
         geo, gid, xyz = _geometry(full, builder_cards, total, [], sort=bool(runs))
         geo.nodes = Lazy.of((gid, xyz))
@@ -295,17 +308,19 @@ def build_geometry(st, builder_cards: list[Card]) -> None:
         return
     exact, plain = [], list(runs)     # run blocks hold plain GRID lines only (bulk_runs.grid_plain)
     n_plain = sum(r.nlines for _d, r, _p in plain)
-    sampled = [_grid_run_part(st, d, r, path, max(1, round(SAMPLE_NODES * r.nlines / n_plain)), False)
+    want = sampling.sample_size(n_plain)
+    sampled = [_grid_run_part(st, d, r, path, (max(1, round(want * r.nlines / n_plain)),
+                                               max(1, round(sampling.PIECES * r.nlines / n_plain))), False)
                for d, r, path in plain]
     geo, _gid, _xyz = _geometry(parts + exact + sampled, builder_cards, total, plain)
     if sampled:
-        n_s = sum(p.rows.shape[0] for p in sampled)
+        n_s = sum(p.cols["gid"].size for p in sampled)
         geo.exact = False
         geo.note = "; ".join(x for x in (f"bounding box estimated from {n_s} sampled of the {n_plain} nodes "
                                          f"of plain GRID lines (all {total - n_plain} other nodes read)", geo.note) if x)
 
     def nodes():
-        allp = parts + exact + [_grid_run_part(st, d, r, path, 0, False) for d, r, path in plain]
+        allp = parts + exact + [_grid_run_part(st, d, r, path, (), False) for d, r, path in plain]
         _g, gid, xyz = _geometry(allp, builder_cards, total, [], sort=True)
         return gid, xyz
 

@@ -14,8 +14,9 @@ from typing import Optional
 
 import numpy as np
 
+from . import sampling
 from .bulk_fields import vec_int
-from .bulk_lines import COMMA, NEWLINE, PLUS, Lines, Run, line_table
+from .bulk_lines import COMMA, NEWLINE, PLUS, Lines, Run
 
 
 
@@ -179,22 +180,19 @@ def element_arrays(elements: dict, name: str, data: bytes, run: Run, key: int
     return eid[sel], conn[sel], run.line + hi[sel] + 1
 
 
-def grid_lines(data: bytes, run: Run, sample: int = 0) -> Lines:
-    """Line table (over the file bytes, no copy) of all lines of a GRID run block, or of ``sample`` evenly spaced ones."""
-    if not sample or sample >= run.nlines:
-        ls, le, _com = block_lines(data, run)
-        return Lines(np.frombuffer(data, np.uint8), ls, le, data, np.arange(run.nlines, dtype=np.int64) + run.line)
-    starts = [run.start]
-    step = (run.end - run.start) / sample
-    for i in range(1, sample):
-        a = data.find(b"\n", run.start + int(i * step) - 1, run.end) + 1
-        if 0 < a < run.end and a > starts[-1]:
-            starts.append(a)
-    # a small copy of the sampled lines, so that the field search does not scan the whole block;
-    # their line numbers are not known without counting: they are never reported
-    lines = line_table(b"\n".join(data[a:data.find(b"\n", a, run.end)] for a in starts))
-    lines.no = np.full(lines.ls.size, run.line, dtype=np.int64)
-    return lines
+def grid_lines(data: bytes, run: Run) -> Lines:
+    """Line table (over the file bytes, no copy) of all lines of a GRID run block."""
+    ls, le, _com = block_lines(data, run)
+    return Lines(np.frombuffer(data, np.uint8), ls, le, data, np.arange(run.nlines, dtype=np.int64) + run.line)
+
+
+def grid_sample(data: bytes, run: Run, want: int, pieces: int) -> tuple[bytes, Run]:
+    """A small copy of about ``want`` lines of a GRID run block (``sampling.line_pieces``), as its own run.
+
+    The sampled lines' numbers are not known without counting: they are never reported.
+    """
+    chunk = sampling.line_pieces(data, run.start, run.end, run.nlines, want, pieces) + b"\n"
+    return chunk, Run(run.name, 0, len(chunk), run.line, chunk.count(b"\n"))
 
 
 def grid_fast(data: bytes, run: Run) -> Optional[dict]:

@@ -9,17 +9,13 @@ import re
 import numpy as np
 
 from ..model import ElementBlock, ElementSet, Lazy, Loc, norm_key
+from . import sampling
 from .keyword_lex import KeywordLine, Reader, is_int
 
 #: nodes per element for types with more than 15 nodes (their elements span two lines);
 #: used when the element catalogue is not available
 LONG_TYPES = {"C3D20": 20, "C3D20R": 20, "C3D20RI": 20, "DC3D20": 20, "C3D20T": 20, "C3D20RT": 20,
               "C3D15": 15, "DC3D15": 15, "F3D20": 20}
-#: up to this many nodes the bounding box is exact; above it, estimated from about SAMPLE_LINES node lines
-#: (runs of consecutive lines spread evenly over the block), so that the cost of the box does not grow
-#: with the deck (the box only serves plausibility checks)
-EXACT_NODES_LIMIT = 50_000
-SAMPLE_LINES = 20_000
 MAX_INT_DIGITS = 10
 MAX_GENERATE = 50_000_000
 _COMMENT_LINE = re.compile(rb"(?m)^[ \t]*\*\*.*\n?")
@@ -253,7 +249,7 @@ def read_node(rd: Reader, kw: KeywordLine, start: int, end: int, model, nlines: 
     if n == 0:
         return
     data = rd.data
-    if n <= EXACT_NODES_LIMIT:
+    if n <= sampling.EXACT_NODES_LIMIT:
         table = _node_table(data[start:end])
         exact = True
     else:
@@ -299,24 +295,10 @@ def _node_table(chunk: bytes) -> np.ndarray:
     return out
 
 
-def _node_sample(data: bytes, start: int, end: int, n_lines: int, pieces: int = 64) -> np.ndarray:
-    """About SAMPLE_LINES node lines, taken as ``pieces`` runs of consecutive lines spread evenly over the
-    block (plus its first line), parsed with numpy in one go: a few hundred ``find`` calls, not one per line."""
-    span = end - start
-    per_piece = max(1, SAMPLE_LINES // pieces)
-    piece_bytes = max(256, int(span / max(1, n_lines) * per_piece))
-    parts = []
-    first_end = data.find(b"\n", start, end)
-    parts.append(data[start: first_end if first_end >= 0 else end])
-    for k in range(pieces):                        # the last piece ends at the end of the block
-        pos = start + (max(0, span - piece_bytes) * k) // max(1, pieces - 1)
-        a = data.find(b"\n", pos, end)
-        if a < 0:
-            break
-        b = data.rfind(b"\n", a + 1, min(end, a + 1 + piece_bytes))
-        if b > a + 1:
-            parts.append(data[a + 1: b])
-    return _node_table(b"\n".join(parts))
+def _node_sample(data: bytes, start: int, end: int, n_lines: int) -> np.ndarray:
+    """The node table of a sample of the block's lines (``sampling``), parsed with numpy in one go."""
+    want = sampling.sample_size(n_lines)
+    return _node_table(sampling.line_pieces(data, start, end, n_lines, want))
 
 
 def _all_nodes(ranges) -> tuple[np.ndarray, np.ndarray]:
