@@ -166,3 +166,19 @@ def test_any_deck_string_stays_on_its_line(text):
     md = render("audit", _one_finding(text))
     empty = render("audit", _one_finding("x"))
     assert md.count("\n") == empty.count("\n")       # a deck string never adds a line to the audit report
+
+
+def test_dump_json_is_the_same_document_as_the_standard_encoder():
+    # reference: the standard library's json module (its indented output parsed back)
+    import json
+
+    from linter.reporters import dump_json
+
+    doc = {"a": [1, {"b": [2.5, None, "ü"], "c": {}}, []], "d": {"e": {"f": [True, "x\n"]}}, "g": []}
+    for depth in (0, 1, 2, 3, 6):
+        text = dump_json(doc, depth)
+        assert json.loads(text) == json.loads(json.dumps(doc, indent=2))
+    lines = dump_json(doc, 2).splitlines()
+    assert '    {"b": [2.5, null, "ü"], "c": {}},' in lines          # depth 2: the items of "a" on one line each
+    with pytest.raises(ValueError):
+        dump_json({"x": float("nan")}, 1)

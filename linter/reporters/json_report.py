@@ -15,10 +15,9 @@ file where they are defined (maybe an include). Non-finite numbers become ``null
 """
 from __future__ import annotations
 
-import json
 from typing import Any
 
-from . import as_options, line_of, run_exit_code, severity_counts, sorted_findings
+from . import as_options, dump_json, line_of, run_exit_code, severity_counts, sorted_findings
 
 SCHEMA_VERSION = 1
 
@@ -74,5 +73,5 @@ def build(result, options=None) -> dict[str, Any]:
 
 def report(result, stream, options=None) -> None:
     doc = build(result, options)
-    stream.write(json.dumps(doc, indent=2, ensure_ascii=False, allow_nan=False))
+    stream.write(dump_json(doc, depth=2))          # one file entry, one finding per line
     stream.write("\n")

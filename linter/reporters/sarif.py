@@ -5,13 +5,12 @@ Relative paths stay relative URI references; a line is given only when it is kno
 """
 from __future__ import annotations
 
-import json
 import os
 from pathlib import Path
 from typing import Any, Optional
 from urllib.parse import quote
 
-from . import as_options, line_of, run_exit_code, sorted_findings
+from . import as_options, dump_json, line_of, run_exit_code, sorted_findings
 
 SARIF_VERSION = "2.1.0"
 LEVELS = ("error", "warning", "note")
@@ -102,5 +101,5 @@ def build(result, options=None) -> dict[str, Any]:
 
 
 def report(result, stream, options=None) -> None:
-    stream.write(json.dumps(build(result, options), indent=2, ensure_ascii=False, allow_nan=False))
+    stream.write(dump_json(build(result, options), depth=4))     # one result per line
     stream.write("\n")
