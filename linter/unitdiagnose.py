@@ -103,6 +103,10 @@ def _split(inf: Inference, ms: MaterialScore, loose_moduli: bool = False) -> Opt
         if len(subset) == len(groups):
             continue
         qs = [q for g in subset for q in GROUPS[g] if q in ev.values and QUANTITY_DIMENSION[q]]
+        groups_bad = _groups_bad(subset, bad, ev)
+        may_loose = loose_moduli and "moduli" in subset
+        if not (groups_bad or may_loose):        # no reading of this subset can be taken (see below)
+            continue
         alts = set.intersection(*(set(data.slip_sources[g]) for g in subset))
         for alt in sorted(alts):
             if all(np.isclose(data.systems[alt].scale(QUANTITY_DIMENSION[q]),
@@ -112,10 +116,10 @@ def _split(inf: Inference, ms: MaterialScore, loose_moduli: bool = False) -> Opt
             c = int(np.argmin(pc))
             if pc[c] > tol:
                 continue
-            loose = loose_moduli and "moduli" in subset and all(
+            loose = may_loose and all(
                 bad[q] or q in ("E", "K") and float(U.decades_outside(si[q][ref], data.lo[q][c], data.hi[q][c])) > 1.0
                 for q in qs)
-            if not (_groups_bad(subset, bad, ev) or loose):
+            if not (groups_bad or loose):
                 continue
             cost = pc[c] + 0.2 * (len(subset) - 1) + (0.1 if "moduli" in subset else 0.0) + \
                 0.01 * data.systems[alt].prior

@@ -50,6 +50,8 @@ class UnitData:
     scoring: dict
     #: group -> indices of the systems a slip of that group may come from
     slip_sources: dict = field(default_factory=dict)
+    #: dimension -> scale factors (filled on first use by ``scales``)
+    _scales: dict = field(default_factory=dict, compare=False, repr=False)
 
     def index(self, name: str) -> Optional[int]:
         n = name.strip().lower().replace(" ", "")
@@ -59,7 +61,12 @@ class UnitData:
         return None
 
     def scales(self, dim: str) -> np.ndarray:
-        return U.scale_vector(dim, self.systems)
+        """Scale factors to SI of ``dim`` for every system (read-only; computed once per dimension)."""
+        sc = self._scales.get(dim)
+        if sc is None:
+            sc = self._scales[dim] = U.scale_vector(dim, self.systems)
+            sc.setflags(write=False)
+        return sc
 
 
 @functools.cache
