@@ -121,9 +121,9 @@ def _import_builtin_pack() -> None:
 
 
 def _load_plugins() -> None:
-    from importlib.metadata import entry_points
+    from .entrypoints import entry_points
 
-    for ep in entry_points(group=ENTRY_POINT_GROUP):
+    for ep in entry_points(ENTRY_POINT_GROUP):
         try:
             obj = ep.load()
             if isinstance(obj, types.ModuleType) or hasattr(obj, "rule"):

@@ -3,8 +3,8 @@ from __future__ import annotations
 
 import io
 import json
+import os
 import sys
-from importlib import metadata
 from pathlib import Path
 
 import pytest
@@ -21,7 +21,7 @@ DECK = ("*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\
 
 
 @pytest.fixture
-def load_plugins(monkeypatch):
+def load_plugins(monkeypatch, tmp_path_factory):
     """load_plugins({"name": "module"}): load entry points of deckwarden.rules without installing anything."""
     pytest.importorskip("linter.parsers.keyword")
     registry.load()
@@ -30,12 +30,14 @@ def load_plugins(monkeypatch):
     errors_before = list(registry._plugin_errors)
 
     def load(points: dict[str, str]) -> None:
-        eps = [metadata.EntryPoint(name=n, value=v, group=registry.ENTRY_POINT_GROUP) for n, v in points.items()]
-
-        def fake_entry_points(**kw):
-            return [ep for ep in eps if kw.get("group") in (None, ep.group)]
-
-        monkeypatch.setattr(metadata, "entry_points", fake_entry_points)
+        # an installed distribution as pip leaves it (a dist-info folder on sys.path), found the real way
+        site = tmp_path_factory.mktemp("site")
+        info = site / "acme_rules-1.0.dist-info"
+        info.mkdir()
+        (info / "METADATA").write_text("Metadata-Version: 2.1\nName: acme-rules\nVersion: 1.0\n")
+        (info / "entry_points.txt").write_text(f"[{registry.ENTRY_POINT_GROUP}]\n" +
+                                               "".join(f"{n} = {v}\n" for n, v in points.items()))
+        monkeypatch.syspath_prepend(str(site))
         registry._load_plugins()
 
     yield load
@@ -97,3 +99,18 @@ def test_plugin_that_cannot_be_imported(load_plugins, write_deck):
     result = check_paths([str(write_deck("part.inp", DECK))], Config())
     assert [f.data["plugin"] for f in result.general if f.rule == "internal/plugin-failed"] == ["acme-missing"]
     assert exit_code(result, "error") == 2
+
+
+def test_entry_point_look_up_skips_the_metadata_import_when_no_distribution_declares_the_group(tmp_path, monkeypatch):
+    from linter import entrypoints
+
+    assert entrypoints._may_declare("deckwarden.no-such-group") is False
+    info = tmp_path / "other-2.0.dist-info"
+    info.mkdir()
+    (info / "METADATA").write_text("Metadata-Version: 2.1\nName: other\nVersion: 2.0\n")
+    (info / "entry_points.txt").write_text("[deckwarden.no-such-group]\nx = os.path:join\n")
+    monkeypatch.syspath_prepend(str(tmp_path))
+    assert entrypoints._may_declare("deckwarden.no-such-group") is True
+    # reference: importlib.metadata reads the same entry point
+    (ep,) = entrypoints.entry_points("deckwarden.no-such-group")
+    assert ep.name == "x" and ep.load() is os.path.join

@@ -54,9 +54,9 @@ def _load_plugins() -> None:
     if _plugins_loaded:
         return
     _plugins_loaded = True
-    from importlib.metadata import entry_points
+    from ..entrypoints import entry_points
 
-    for ep in entry_points(group=ENTRY_POINT_GROUP):
+    for ep in entry_points(ENTRY_POINT_GROUP):
         try:
             mod = ep.load()
             _modules[mod.FORMAT] = mod
