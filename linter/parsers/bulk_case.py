@@ -157,7 +157,8 @@ def cord_systems(cards, grid_lookup) -> tuple[dict[int, tuple[str, np.ndarray, n
 
     def to_basic(cid: int, p: np.ndarray) -> np.ndarray:
         t, o, rot = done[cid]
-        return o + rot @ local_to_rect(t, p[None, :])[0]
+        with np.errstate(invalid="ignore", over="ignore"):     # a non-finite point stays so: solve() rejects it
+            return o + rot @ local_to_rect(t, p[None, :])[0]
 
     def solve(cid: int, depth: int = 0) -> bool:
         if cid in done:
