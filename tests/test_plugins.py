@@ -22,7 +22,8 @@ DECK = ("*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\
 
 @pytest.fixture
 def load_plugins(monkeypatch, tmp_path_factory):
-    """load_plugins({"name": "module"}): load entry points of deckwarden.rules without installing anything."""
+    """load_plugins({"name": "module"}): load entry points of deckwarden.rules declared by a dist-info folder
+    written to a temporary folder on sys.path (nothing is installed with pip)."""
     pytest.importorskip("linter.parsers.keyword")
     registry.load()
     monkeypatch.syspath_prepend(str(EXAMPLE))

@@ -136,14 +136,14 @@ def read_slow_elements(st, cards: list[Card]) -> None:
         part = _Part(None, None, False, cs[0].loc.path)
         try_int = lambda n, c: _int_field(c.f[n - 2]) if 0 <= n - 2 < len(c.f) else 0  # noqa: E731
         if name == "GRID":
-            part.cols = {"gid": np.array([try_int(2, c) or 0 for c in cs]),
-                         "cp": np.array([try_int(3, c) or 0 for c in cs]),
+            part.cols = {"gid": np.array([try_int(2, c) for c in cs]),
+                         "cp": np.array([try_int(3, c) for c in cs]),
                          "cpblank": np.array([not c.s(3) for c in cs]),
                          "xyz": np.array([[_safe_real(c.s(n)) for n in (4, 5, 6)] for c in cs], dtype=float)}
         else:
             maxn, types = ELEMENTS[name]
-            eid = np.array([try_int(2, c) or 0 for c in cs])
-            pid = np.array([try_int(3, c) if c.s(3) else try_int(2, c) or 0 for c in cs])
+            eid = np.array([try_int(2, c) for c in cs])
+            pid = np.array([try_int(3, c) if c.s(3) else try_int(2, c) for c in cs])
             conn = np.array([[_int_field(x) for x in c.f[2:2 + maxn]] + [0] * (maxn - len(c.f[2:2 + maxn]))
                              for c in cs], dtype=np.int64)
             count = (conn != 0).sum(axis=1)
