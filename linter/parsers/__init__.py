@@ -26,11 +26,13 @@ ENTRY_POINT_GROUP = "deckwarden.parsers"
 BUILTIN = {
     "keyword": "linter.parsers.keyword",
     "bulk": "linter.parsers.bulk",
+    "mesh": "linter.parsers.mesh",
 }
 #: extensions known without importing the modules (kept in sync by a test)
 EXTENSIONS = {
     "keyword": (".inp",),
     "bulk": (".bdf", ".dat", ".nas", ".blk", ".bulk"),
+    "mesh": (".yaml", ".yml"),
 }
 
 
@@ -43,6 +45,8 @@ class ParseOptions:
     max_file_size: int = 4 << 30
     #: path to show for the top deck (as the user gave it)
     display_path: Optional[str] = None
+    #: mesh route: the material file when the path checked is the mesh itself (``--materials``)
+    materials: Optional[str] = None
 
 
 _modules: dict = {}
