@@ -112,7 +112,7 @@ def assign(doc: Doc, mesh, regions: list[Region], mesh_loc: Loc, mesh_name: str,
         region_masks.append(masks)
         model.element_sets[reg.key] = ElementSet(reg.label, reg.key, reg.sel_loc, defined_at=[reg.sel_loc])
         if not any(m is not None for m in masks):
-            model.element_sets[reg.key].name = f"{reg.label}: {why}"
+            reg.unmatched = why
     overlaps: dict[tuple[int, int], int] = {}
     boundary: dict[str, int] = {}
     offset = 0

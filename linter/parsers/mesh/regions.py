@@ -39,6 +39,8 @@ class Region:
     section: str = "solid"
     orientation: Optional[str] = None
     name: Optional[str] = None
+    #: why the selector matched no cell (set when the mesh was read)
+    unmatched: Optional[str] = None
 
     @property
     def label(self) -> str:
@@ -47,7 +49,7 @@ class Region:
         elif self.selector[0] == "all":
             what = "all cells"
         elif self.selector[0] == "cell_data":
-            what = f"cell_data {self.selector[1]} = {self.selector[2]}"
+            what = f"cell_data {self.selector[1]} = {self.selector[2]:g}"
         else:
             what = f"{self.selector[0]} {self.selector[1]!r}" if isinstance(self.selector[1], str) \
                 else f"{self.selector[0]} {self.selector[1]}"
@@ -153,7 +155,8 @@ def section_of(reg: Region) -> Optional[Section]:
     role = "solid" if reg.section in ("solid", "plane-strain", "plane-stress", "axisymmetric") else reg.section
     kind = "solid" if reg.section in ("solid", "plane-strain", "axisymmetric") else reg.section
     options: dict[str, Any] = {"formulation": reg.formulation, "section": reg.section}
-    return Section(kind=kind, card="region", elset=reg.key, elset_name=reg.label,
+    label = reg.label if reg.unmatched is None else f"{reg.label} ({reg.unmatched})"
+    return Section(kind=kind, card="region", elset=reg.key, elset_name=label,
                    materials=[MaterialRef(role, reg.material, reg.material, reg.material_loc or reg.loc)],
                    loc=reg.sel_loc, orientation=reg.orientation, options=options)
 
