@@ -13,7 +13,7 @@ import pytest
 
 meshio = pytest.importorskip("meshio")
 
-from linter.includes import IncludePolicy  # noqa: E402
+from linter.parsers.includes import IncludePolicy  # noqa: E402
 from linter.parsers import ParseOptions  # noqa: E402
 from linter.parsers import mesh as mesh_parser  # noqa: E402
 from linter.usage import element_types_of, unassigned  # noqa: E402

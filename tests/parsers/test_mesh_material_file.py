@@ -8,7 +8,7 @@ from importlib import resources
 import pytest
 import yaml
 
-from linter.includes import IncludePolicy
+from linter.parsers.includes import IncludePolicy
 from linter.model import BLOCK_LAYOUTS, PROCEDURES
 from linter.parsers import ParseOptions
 from linter.parsers import mesh as mesh_parser

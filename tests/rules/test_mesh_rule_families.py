@@ -15,7 +15,7 @@ meshio = pytest.importorskip("meshio")
 
 from linter.check import check_file  # noqa: E402
 from linter.config import Config  # noqa: E402
-from linter.includes import IncludePolicy  # noqa: E402
+from linter.parsers.includes import IncludePolicy  # noqa: E402
 
 HEAD = """\
 deckwarden: 1
