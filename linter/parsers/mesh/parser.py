@@ -14,15 +14,12 @@ import os
 import re
 from typing import Optional
 
+from . import DEFAULT_DIALECT, FORMAT
 from ..includes import IncludeTracker
 from ...model import DeckModel, Include, Issue, Loc, Unchecked
 from ...safe_yaml import YamlRefused, compose_yaml_text, scalar_value
 from ..sources import read_deck_bytes
 
-FORMAT = "mesh"
-EXTENSIONS = (".yaml", ".yml")
-DEFAULT_DIALECT = "meshio"
-COMMENT_PREFIXES = ("#",)
 VERSION = 1
 TOP_KEYS = ("deckwarden", "units", "mesh", "materials", "regions", "analysis", "title", "description")
 
