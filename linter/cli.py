@@ -42,6 +42,8 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--format", "-f", choices=FORMATS, default="text", help="report format (default: text)")
     c.add_argument("--output", "-o", metavar="FILE", help="write the report to FILE instead of standard output")
     _config_options(c)
+    c.add_argument("--materials", metavar="FILE",
+                   help="material file (deckwarden: 1) for the mesh files given (Gmsh, VTK, XDMF, MED ...)")
     c.add_argument("--no-color", action="store_true", help="no colour in the text report")
 
     g = sub.add_parser("config", help="show the effective configuration and where each value comes from",
@@ -173,6 +175,13 @@ def _config(args):
         check_units(args.units, bad(f"--units {args.units!r}"))
         cfg.units = args.units
         origins["units"] = "--units"
+    if getattr(args, "materials", None):
+        if not os.path.isfile(args.materials):
+            raise UsageError(f"--materials {args.materials}: not a file")
+        folders = [p for p in args.paths if os.path.isdir(p)]
+        if folders:
+            raise UsageError(f"--materials takes mesh files, not folders ({folders[0]})")
+        cfg.materials = args.materials
     select, ignore = _split(args.select), _split(args.ignore)
     _check_rule_names(select + ignore)
     if select:

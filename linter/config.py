@@ -38,7 +38,7 @@ from .configfile import ConfigError  # noqa: F401  (re-exported)
 from .findings import SEVERITIES
 from .safe_yaml import load_package_yaml
 
-DEFAULT_DIALECTS = {"keyword": "calculix", "bulk": "mystran"}
+DEFAULT_DIALECTS = {"keyword": "calculix", "bulk": "mystran", "mesh": "meshio"}
 
 
 @functools.cache
@@ -76,6 +76,8 @@ class Config:
     exclude: list[str] = field(default_factory=list)
     #: [{"paths": [globs], "rules": {...}, "select": [...], "ignore": [...]}]: settings for some decks
     per_path: list[dict] = field(default_factory=list)
+    #: material file for the meshes given on the command line (``--materials``); not a configuration key
+    materials: Optional[str] = None
     #: the file this configuration came from (None: defaults)
     source: Optional[str] = None
     #: key -> where its value came from (file and line, or a command-line option); absent: the default
