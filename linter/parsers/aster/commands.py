@@ -87,6 +87,8 @@ def _statement(stmt: ast.stmt, ev: Evaluator, prog: Program) -> None:
     if isinstance(stmt, ast.Assign) and len(stmt.targets) == 1 and isinstance(stmt.targets[0], ast.Name):
         name = stmt.targets[0].id
         value = ev.value(stmt.value)
+        if isinstance(value, tuple) and len(value) == 1 and isinstance(value[0], Command):
+            value = value[0]   # "X = COMMAND(...)," (a trailing comma): the solver takes the one-element list
         if isinstance(value, Command):
             value.target = name
             prog.commands.append(value)
@@ -123,9 +125,17 @@ def _statement(stmt: ast.stmt, ev: Evaluator, prog: Program) -> None:
 
 
 def _opaque(value, prog: Program, name: Optional[str]) -> None:
+    """A statement whose value is not computed: listed as unchecked (risky calls are reported by _scan_inner)."""
     if isinstance(value, Opaque) and "does not run" in value.why:
-        prog.notes.append(Note("code-not-run", f"{value.why}" + (f" (bound to {name})" if name else ""),
-                               value.line, "call"))
+        called = value.why.split("call to ", 1)[-1].split("(", 1)[0].rsplit(".", 1)[-1]
+        if called not in RISKY:
+            prog.notes.append(Note("unchecked", value.why + (f" (bound to {name})" if name else ""), value.line,
+                                   "Python call"))
+    elif isinstance(value, Opaque) and value.why.startswith(("an integer too large", "a power", "a value that",
+                                                             "an expression nested", "a sequence", "a string",
+                                                             "a repeated")):
+        prog.notes.append(Note("evaluation-limit", f"{value.why} on line {value.line}: not computed"
+                               + (f"; {name} is not checked" if name else ""), value.line))
 
 
 def _scan_inner(node: ast.AST, prog: Program, top: Optional[Command], where: str = "") -> None:

@@ -22,7 +22,7 @@ from ...model import Loc, Material, PropertyBlock, Row, Unchecked, norm_key
 from .evaluate import Command, Keywords, Opaque, number
 
 #: behaviours read here; every other keyword of DEFI_MATERIAU is listed as unchecked
-READ = ("ELAS", "ELAS_FO", "ELAS_ORTH", "ELAS_ORTH_FO", "ELAS_ISTR", "ELAS_ISTR_FO", "ELAS_HYPER", "THER",
+READ = ("ELAS", "ELAS_FO", "ELAS_FLUI", "ELAS_ORTH", "ELAS_ORTH_FO", "ELAS_ISTR", "ELAS_ISTR_FO", "ELAS_HYPER", "THER",
         "THER_FO", "THER_NL", "THER_ORTH", "ECRO_LINE", "ECRO_LINE_FO", "TRACTION")
 IGNORED = ("INFO", "reuse", "MATER")
 #: unread behaviours that give a stiffness of their own (elasticity the reader does not check, discrete,
@@ -159,6 +159,8 @@ class MaterialReader:
         else:   # elasticity the reader cannot tabulate (a FORMULE, a name bound in a loop): present, unchecked
             mat.blocks.append(PropertyBlock("user", "unread", [], self.loc(occ.line), card=kwname))
         self._extras(mat, occ, kwname, (("RHO", "density"), ("ALPHA", "expansion")))
+
+    _elas_flui = _elas   # ELAS_FLUI: E, NU, RHO of a tube in a fluid (the added-mass data are not checked)
 
     def _extras(self, mat, occ, kwname, pairs):
         for key, kind in pairs:

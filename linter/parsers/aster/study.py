@@ -334,6 +334,8 @@ def _procedure_kind(cmd: Command) -> str:
         if kw.get("TYPE_CALCUL") == "HARM":
             return "steady-state-dynamics"
         return "modal-dynamic" if kw.get("BASE_CALCUL") == "GENE" else "dynamic-implicit"
+    if ANALYSES[name] == "frequency" and kw.get("TYPE_RESU") == "MODE_FLAMB":
+        return "buckle"
     if name in ("THER_LINEAIRE", "THER_NON_LINE"):
         # a list of instants makes the computation transient (a first stationary instant or not)
         return "heat-transient" if kw.get("INCREMENT") is not None else "heat-steady"
