@@ -14,7 +14,7 @@ import re
 from typing import Optional
 
 from ...model import DeckModel, Include, Issue, Loc, Unchecked
-from ...sources import SourceError, read_deck_bytes, text
+from ..sources import SourceError, read_deck_bytes, text
 from .cells import MeshUse
 from .commands import read_program
 from .mail import read_mail

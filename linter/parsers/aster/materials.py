@@ -274,7 +274,7 @@ def finish_traction(mat: Material) -> None:
         eps, sig = np.asarray(curve[0], float), np.asarray(curve[1], float)
         if e_mod is None or not math.isfinite(e_mod) or e_mod <= 0 or eps.size == 0 or eps[0] <= 0:
             continue
-        if abs(sig[0] / eps[0] - e_mod) > 1e-3 * e_mod:
+        if abs(sig[0] / eps[0] - e_mod) > 1e-2 * e_mod:   # off the elastic line: plastic/first-point-off-elastic-line
             continue
         ep = eps - sig / e_mod
         ep[0] = 0.0
