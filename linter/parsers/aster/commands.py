@@ -13,6 +13,7 @@ number of times, so that the rest of the study is still read.
 from __future__ import annotations
 
 import ast
+import warnings
 from dataclasses import dataclass, field
 from typing import Optional
 
@@ -47,7 +48,9 @@ def _parse(text: str, prog: Program) -> Optional[ast.Module]:
     lines = text.split("\n")
     for _ in range(MAX_REPAIRS + 1):
         try:
-            return ast.parse("\n".join(lines), mode="exec", type_comments=False)
+            with warnings.catch_warnings():   # invalid escapes in the file's strings are the file's business
+                warnings.simplefilter("ignore")
+                return ast.parse("\n".join(lines), mode="exec", type_comments=False)
         except SyntaxError as exc:
             ln = exc.lineno or 0
             detail = (exc.msg or "invalid syntax").split("\n")[0]
