@@ -38,7 +38,7 @@ from .configfile import ConfigError  # noqa: F401  (re-exported)
 from .findings import SEVERITIES
 from .safe_yaml import load_package_yaml
 
-DEFAULT_DIALECTS = {"keyword": "calculix", "bulk": "mystran", "mesh": "meshio"}
+DEFAULT_DIALECTS = {"keyword": "calculix", "bulk": "mystran", "mesh": "meshio", "aster": "code_aster"}
 
 
 @functools.cache
