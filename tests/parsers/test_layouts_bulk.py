@@ -8,35 +8,18 @@ the project is meshio 5.3 (``meshio.read``, its nastran reader) for the styles i
 """
 from __future__ import annotations
 
-import importlib.util
 import io
-import sys
-from pathlib import Path
 
 import numpy as np
 import pytest
+from benchload import load
 
 from linter.parsers import ParseOptions
 from linter.parsers.bulk import lines as bl
 from linter.parsers.bulk import parser as B
 
-BENCH = Path(__file__).resolve().parents[1] / "bench"
-
-
-def _load(name):
-    spec = importlib.util.spec_from_file_location(f"_bench_{name}", BENCH / f"{name}.py")
-    mod = importlib.util.module_from_spec(spec)
-    sys.modules[spec.name] = mod
-    sys.path.insert(0, str(BENCH))
-    try:
-        spec.loader.exec_module(mod)
-    finally:
-        sys.path.remove(str(BENCH))
-    return mod
-
-
-L = _load("layouts")
-G = _load("gen_decks")
+L = load("layouts")
+G = load("gen_decks")
 
 
 def deck(style: str, dims=(30, 20, 12)) -> tuple[str, np.ndarray, int]:

@@ -7,13 +7,11 @@ only up to the nodes still missing).
 """
 from __future__ import annotations
 
-import importlib.util
 import io
-import sys
-from pathlib import Path
 
 import numpy as np
 import pytest
+from benchload import load
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -21,11 +19,7 @@ from linter.parsers import ParseOptions
 from linter.parsers.keyword import parser as K
 from linter.parsers.keyword import rows
 
-BENCH = Path(__file__).resolve().parents[1] / "bench"
-_spec = importlib.util.spec_from_file_location("_bench_layouts", BENCH / "layouts.py")
-L = importlib.util.module_from_spec(_spec)
-sys.modules[_spec.name] = L
-_spec.loader.exec_module(L)
+L = load("layouts")
 
 #: CalculiX type -> (nodes, meshio cell type)
 TYPES = {"C3D8": (8, "hexahedron"), "C3D20": (20, "hexahedron20"), "C3D10": (10, "tetra10"),
