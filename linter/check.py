@@ -52,6 +52,7 @@ def check_file(path: str, fmt: str, config: Config, policy: IncludePolicy) -> Fi
     try:
         mod = parsers.get(fmt)
         opts = parsers.ParseOptions(dialect=dialect, include=policy, max_file_size=config.max_file_size,
+                                    materials=config.materials if fmt == "mesh" else None,
                                     display_path=path)
         model = mod.parse(path, opts)
     except SourceError as exc:
