@@ -22,7 +22,9 @@ SNIFF_BYTES = 65536
 INCOMPLETE_RULES = {"internal/rule-failed", "internal/parser-failed", "internal/derive-failed",
                     "parse/include-refused", "parse/file-unreadable", "parse/binary-file",
                     "parse/file-too-large", "parse/not-a-deck", "parse/path-not-found",
-                    "parse/no-deck-found", "parse/include-unreadable", "internal/plugin-failed"}
+                    "parse/no-deck-found", "parse/include-unreadable", "internal/plugin-failed",
+                    "parse/xml-refused", "parse/xml-malformed", "parse/xml-unavailable",
+                    "parse/unsupported-version"}
 
 
 def _general(rule: str, message: str, path: Optional[str]) -> Finding:

@@ -26,11 +26,13 @@ ENTRY_POINT_GROUP = "deckwarden.parsers"
 BUILTIN = {
     "keyword": "linter.parsers.keyword",
     "bulk": "linter.parsers.bulk",
+    "febio": "linter.parsers.febio",
 }
 #: extensions known without importing the modules (kept in sync by a test)
 EXTENSIONS = {
     "keyword": (".inp",),
     "bulk": (".bdf", ".dat", ".nas", ".blk", ".bulk"),
+    "febio": (".feb",),
 }
 
 

@@ -105,16 +105,35 @@ class MaterialReader:
     def read(self, node: Node, name: str) -> Material:
         mat = Material(name=name, key=name, loc=self.loc(node))
         ftype = node.get("type", "")
-        self.density(mat, node, top=True)
+        self.densities: list[tuple[int, Node]] = []        # (rank, node): 0 own, 1 fluid, 2 other component
+        self.density(mat, node, 0)
         self.component(mat, node, ftype, "", bulk=None)
+        self.choose_density(mat)
         return mat
 
-    def density(self, mat, node, top=False) -> None:
-        if node.find("density") is None or any(b.kind == "density" for b in mat.blocks):
-            return
-        rho = self.param(mat, node, "density", "")
-        if rho is not None:
-            self.block(mat, "density", "iso", (rho,), node.find("density"), "density")
+    def density(self, mat, node, rank) -> None:
+        if node.find("density") is not None:
+            self.densities.append((rank, node))
+
+    def choose_density(self, mat) -> None:
+        """The material's own density; else a fluid constituent's; else the first component's.
+
+        A density of 0 is FEBio's massless material (e.g. the mesh of a fluid-FSI solid): it is
+        recorded as unchecked, not as a density block, so that only an analysis that needs mass
+        reports it (analysis/missing-density); a negative density is kept for property/nonpositive.
+        """
+        zero = None
+        for _rank, node in sorted(self.densities, key=lambda t: t[0]):
+            rho = self.param(mat, node, "density", "")
+            if rho is None:
+                return                  # given by a load curve or expression: unchecked already
+            if rho != 0:
+                self.block(mat, "density", "iso", (rho,), node.find("density"), "density")
+                return
+            zero = zero or node
+        if zero is not None:
+            self.unchecked.append(Unchecked("density", self.loc(zero.find("density")),
+                                            "density 0: a massless material", material=mat.name))
 
     def component(self, mat: Material, node: Node, ftype: str, where: str, bulk: Optional[float]) -> None:
         """Blocks for one law; ``bulk`` is the k of an enclosing uncoupled mixture (children give k = 0)."""
@@ -153,27 +172,42 @@ class MaterialReader:
             k = self.param(mat, node, "k", where) if ftype == "uncoupled solid mixture" else None
             before = len(mat.blocks)
             for child in node.findall("solid"):
-                self.density(mat, child)
+                self.density(mat, child, 2)
                 self.component(mat, child, child.get("type", ""), f"{card}/", k if k is not None else bulk)
             if ftype == "uncoupled solid mixture" and k is not None:
-                mus = [b.rows[0].values[1] for b in mat.blocks[before:] if b.form == "uncoupled-bulk"]
-                mat.blocks[before:] = [b for b in mat.blocks[before:] if b.form != "uncoupled-bulk"]
-                self.block(mat, "other", "uncoupled-bulk", (k, sum(mus) if mus else math.nan), node, card,
-                           mu_known=bool(mus))
+                self.merge_bulk(mat, before, k, node, card)
         elif ftype in MULTIPHASE or ftype in WRAPPER_CHILD:
-            found = False
+            if is_uncoupled(ftype) and node.find("k") is not None:
+                k = self.param(mat, node, "k", where)
+                inner = k if k is not None else bulk
+            else:
+                k, inner = None, bulk
+            before, found = len(mat.blocks), False
             for child in node.children:
-                if child.tag in COMPONENT_TAGS and "type" in child.attrib:
+                if child.tag == "fluid" and "type" not in child.attrib:
+                    found = True            # the fluid constituent of fluid-FSI / biphasic-FSI (no type)
+                    self.density(mat, child, 1)
+                    self.component(mat, child, "fluid", f"{card}/", bulk)
+                elif child.tag in COMPONENT_TAGS and "type" in child.attrib:
                     found = True
-                    self.density(mat, child)
-                    self.component(mat, child, child.get("type", ""), f"{card}/{child.tag}:", bulk)
+                    self.density(mat, child, 2)
+                    self.component(mat, child, child.get("type", ""), f"{card}/{child.tag}:", inner)
                 elif "type" in child.attrib:
                     self.unchecked.append(Unchecked(f"{card}/{child.tag}:{child.get('type')[:60]}",
                                                     self.loc(child), "constituent not checked", material=mat.name))
+            if k is not None:
+                self.merge_bulk(mat, before, k, node, card)
             if not found:
                 self.opaque(mat, node, ftype, where)
         else:
             self.opaque(mat, node, ftype or "(no type)", where)
+
+    def merge_bulk(self, mat, before: int, k: float, node, card) -> None:
+        """One penalty block (k, sum of the components' mu0) for an uncoupled mixture or wrapper."""
+        mus = [b.rows[0].values[1] for b in mat.blocks[before:] if b.form == "uncoupled-bulk"]
+        mat.blocks[before:] = [b for b in mat.blocks[before:] if b.form != "uncoupled-bulk"]
+        self.block(mat, "other", "uncoupled-bulk", (k, sum(mus) if mus else math.nan), node, card,
+                   mu_known=bool(mus))
 
     def uncoupled_bulk(self, mat, node, card, mu0, where, bulk) -> Optional[float]:
         """The k that applies (own, or the mixture's) and, for a top-level law, the penalty block."""

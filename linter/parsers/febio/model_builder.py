@@ -15,8 +15,10 @@ from .xmltree import Node, XmlRefused, parse_bytes
 SUPPORTED = ("4.0", "3.0", "2.5")
 #: analysis keywords -> neutral procedure kind (FEBio User's Manual 4.0, 3.3.1 "Control")
 ANALYSIS = {"STATIC": "static", "STEADY-STATE": "static", "TRANSIENT": "static", "DYNAMIC": "dynamic-implicit"}
-#: modules whose steps are not structural (FEBio User's Manual 4.0, 3.2 "Module")
-FLUID_MODULES = {"fluid", "fluid-solutes", "polar fluid"}
+#: modules whose steps are not read as structural analyses (FEBio User's Manual 4.0, 3.2 "Module"): their
+#: DYNAMIC is the fluid's time integration, and a zero density (inertia-free flow, a massless ALE mesh)
+#: is valid there (the solver's own verification models use it)
+FLUID_MODULES = {"fluid", "fluid-solutes", "polar fluid", "fluid-FSI", "biphasic-FSI", "multiphasic-FSI"}
 HEAT_MODULES = {"heat"}
 #: domain type attribute -> formulation suffix of the catalogue key (elements.yaml, febio section)
 FORMULATION = {"three-field-solid": "THREE-FIELD", "three-field-shell": "THREE-FIELD", "ut4-solid": "UT4",
@@ -27,6 +29,8 @@ FORMULATION = {"three-field-solid": "THREE-FIELD", "three-field-shell": "THREE-F
 #: (FEBio source, FEModelBuilder: m_b3field_hex = true for hex8/penta6/pyra5, m_b3field_quad = true
 #: for quad4 shells, m_b3field_tet = false; FESolidDomainFactory::CreateDomain)
 THREE_FIELD_DEFAULT = {"hex8", "penta6", "pyra5", "quad4"}
+#: shapes that take the three-field formulation when the domain asks for it (three_field="on")
+THREE_FIELD_CAPABLE = THREE_FIELD_DEFAULT | {"tet10", "tet15", "tet20", "tri3", "quad8", "tri6"}
 
 
 class Builder:
@@ -38,13 +42,14 @@ class Builder:
                                dialect=getattr(options, "dialect", None) or "febio")
         self.model.files = [self.display]
         self.data = b""
+        self.last_line = 1 << 62
         self.mat_types: dict[str, str] = {}
         self.axes: dict[str, str] = {}
         self._raw_elements: list = []
         self.module = "solid"
 
     def loc(self, line: int) -> Loc:
-        return Loc(self.display, max(1, int(line)))
+        return Loc(self.display, min(max(1, int(line)), self.last_line))
 
     def issue(self, code: str, message: str, line: int, material: Optional[str] = None, **data) -> None:
         self.model.issues.append(Issue(code, message, self.loc(line), material=material, data=data))
@@ -54,6 +59,7 @@ class Builder:
     def run(self) -> DeckModel:
         src = read_deck_bytes(self.path, self.options.max_file_size)
         self.data = src.data
+        self.last_line = max(1, self.data.count(b"\n") + (0 if self.data.endswith(b"\n") else 1))
         sc = scan(self.data)
         extras = self.model.extras.setdefault("febio", {})
         extras["mesh_blocks"] = [{"tag": b.tag, "name": b.attrib.get("name"), "line": b.line, "count": b.count}
@@ -205,14 +211,14 @@ class Builder:
                 form = (o.get("formulation") or "").strip()
                 elem_type = (o.get("elem_type") or "").strip().upper()
                 mat_type = self.mat_types.get(sec.materials[0].key, "") if sec.materials else ""
-                if form in FORMULATION:
-                    suffix = FORMULATION[form]
+                if form:
+                    suffix = FORMULATION.get(form, "")
                 elif elem_type == "UT4" or elem_type.startswith("UT4"):
                     suffix = "UT4"
                 elif mat_type == "rigid body":
                     suffix = "RIGID"
                 elif is_uncoupled(mat_type) and o.get("three_field") != "off" and (
-                        shape in THREE_FIELD_DEFAULT or o.get("three_field") == "on"):
+                        shape in THREE_FIELD_DEFAULT or (o.get("three_field") == "on" and shape in THREE_FIELD_CAPABLE)):
                     suffix = "THREE-FIELD"
             eb.type = (shape + variant).upper() + ("/" + suffix if suffix else "")
 
