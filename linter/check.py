@@ -5,7 +5,6 @@ the other files are still checked.
 """
 from __future__ import annotations
 
-import math
 import os
 import time
 import traceback
@@ -13,11 +12,11 @@ from typing import Any, Optional
 
 from . import parsers
 from .config import Config
-from .findings import FileReport, Finding, RunResult
-from .includes import IncludePolicy, default_root
-from .sources import SourceError
+from .discovery import discover, general_finding, make_policy
+from .findings import FileReport, Finding, RunResult, jsonable
+from .parsers.includes import IncludePolicy
+from .parsers.sources import SourceError
 
-SNIFF_BYTES = 65536
 #: rules whose findings make the check incomplete (exit code 2)
 INCOMPLETE_RULES = {"internal/rule-failed", "internal/parser-failed", "internal/derive-failed",
                     "parse/include-refused", "parse/file-unreadable", "parse/binary-file",
@@ -25,153 +24,6 @@ INCOMPLETE_RULES = {"internal/rule-failed", "internal/parser-failed", "internal/
                     "parse/no-deck-found", "parse/include-unreadable", "internal/plugin-failed",
                     "parse/xml-refused", "parse/xml-malformed", "parse/xml-unavailable",
                     "parse/unsupported-version"}
-
-
-def _general(rule: str, message: str, path: Optional[str]) -> Finding:
-    return Finding(rule=rule, severity="error", message=message, path=path, line=None)
-
-
-def _head(path: str) -> bytes:
-    with open(path, "rb") as fh:
-        return fh.read(SNIFF_BYTES)
-
-
-def _includes_task(args) -> list[str]:
-    f, fmt, config, policy = args
-    finder = getattr(parsers.get(fmt), "includes_of", None)
-    if finder is None:
-        return []
-    try:
-        opts = parsers.ParseOptions(dialect=config.dialect_for(fmt), include=policy,
-                                    max_file_size=config.max_file_size, display_path=f)
-        return [os.path.realpath(x) for x in finder(f, opts)]
-    except Exception:
-        return []
-
-
-def _detect_task(path: str) -> tuple[Optional[str], Optional[str]]:
-    """(format or None, error text or None) of one walked file."""
-    try:
-        return parsers.detect(path, _head(path)), None
-    except OSError as exc:
-        return None, str(exc.strerror or exc)
-
-
-def discover(paths: list[str], result: RunResult, config: Config, mapper=map) -> list[tuple[str, str]]:
-    """(path, format) of every top-level deck under ``paths``; records problems in ``result``.
-
-    ``mapper`` maps the format sniffing and the include scan over the walked files (a process pool's
-    ``map`` with ``--jobs``).
-    """
-    explicit: list[tuple[str, str]] = []
-    walked: list[tuple[str, str]] = []
-    exts = parsers.all_extensions()
-    for p in paths:
-        if not os.path.lexists(p):
-            result.general.append(_general("parse/path-not-found", f"{p}: no such file or folder", p))
-            continue
-        if os.path.isdir(p):
-            files = [f for f in _walk(p, result) if os.path.splitext(f)[1].lower() in exts]
-            for f, (fmt, err) in zip(files, mapper(_detect_task, files)):
-                if err:
-                    result.general.append(_general("parse/file-unreadable", f"{f}: cannot read the file ({err})", f))
-                elif fmt:
-                    walked.append((f, fmt))
-            continue
-        try:
-            head = _head(p)
-        except OSError as exc:
-            result.general.append(_general("parse/file-unreadable", f"{p}: cannot read the file ({exc.strerror or exc})", p))
-            continue
-        fmt = parsers.detect(p, head)
-        if fmt is None:
-            from .sources import looks_binary
-
-            if looks_binary(head):
-                result.general.append(_general("parse/binary-file", f"{p}: is a binary file, not a text deck", p))
-            elif not head.strip():
-                fmts = parsers.formats_for_extension(os.path.splitext(p)[1])
-                if fmts:
-                    explicit.append((p, fmts[0]))
-                    continue
-                result.general.append(_general("parse/not-a-deck", f"{p}: empty file of unknown format", p))
-            else:
-                result.general.append(_general(
-                    "parse/not-a-deck", f"{p}: does not look like a deck of a known format "
-                    f"({', '.join(parsers.names())})", p))
-            continue
-        explicit.append((p, fmt))
-    # a file that only serves as an include of another walked deck is not linted on its own
-    if walked:
-        included: set[str] = set()
-        policy = make_policy(paths, config)
-        for found in mapper(_includes_task, [(f, fmt, config, policy) for f, fmt in walked]):
-            included.update(found)
-        walked = [(f, fmt) for f, fmt in walked if os.path.realpath(f) not in included]
-    seen, out = set(), []
-    for f, fmt in explicit + walked:
-        real = os.path.realpath(f)
-        if real not in seen:
-            seen.add(real)
-            out.append((f, fmt))
-    return out
-
-
-def _walk(top: str, result: RunResult):
-    """Files under ``top`` in sorted order; follows links to folders once (loops are cut)."""
-    seen_dirs: set[str] = set()
-    stack = [top]
-    while stack:
-        d = stack.pop()
-        real = os.path.realpath(d)
-        if real in seen_dirs:
-            continue
-        seen_dirs.add(real)
-        try:
-            entries = sorted(os.scandir(d), key=lambda e: e.name)
-        except OSError as exc:
-            result.general.append(_general("parse/file-unreadable",
-                                           f"{d}: cannot list the folder ({exc.strerror or exc})", d))
-            continue
-        subdirs = []
-        for e in entries:
-            try:
-                if e.is_dir(follow_symlinks=True):
-                    if not e.name.startswith("."):
-                        subdirs.append(e.path)
-                elif e.is_file(follow_symlinks=True):
-                    yield e.path
-            except OSError:
-                continue
-        stack.extend(reversed(subdirs))
-
-
-def make_policy(paths: list[str], config: Config) -> IncludePolicy:
-    root = None if config.allow_include_outside else default_root(paths, config.source, config.include_root)
-    return IncludePolicy(root=root, allow_outside=config.allow_include_outside,
-                         max_depth=int(config.max_include_depth), solver_cwd=config.solver_cwd)
-
-
-def jsonable(value: Any) -> Any:
-    """Plain JSON types from numpy scalars/arrays, tuples, non-finite floats (-> None)."""
-    import numpy as np
-
-    if isinstance(value, dict):
-        return {str(k): jsonable(v) for k, v in value.items() if not str(k).startswith("_")}
-    if isinstance(value, (list, tuple)):
-        return [jsonable(v) for v in value]
-    if isinstance(value, np.ndarray):
-        return jsonable(value.tolist())
-    if isinstance(value, (np.floating, float)):
-        f = float(value)
-        return f if math.isfinite(f) else None
-    if isinstance(value, (np.integer,)):
-        return int(value)
-    if isinstance(value, (np.bool_,)):
-        return bool(value)
-    if value is None or isinstance(value, (str, int, bool)):
-        return value
-    return str(value)
 
 
 def material_summary(model) -> list[dict[str, Any]]:
@@ -257,7 +109,7 @@ def _check_one(args):
 
 def _no_deck_check(decks: list, result: RunResult, paths: list[str]) -> list:
     if not decks and not result.general:
-        result.general.append(_general("parse/no-deck-found",
+        result.general.append(general_finding("parse/no-deck-found",
                                        f"no deck of a known format found in: {', '.join(paths)}", None))
     return decks
 
@@ -296,12 +148,3 @@ def check_paths(paths: list[str], config: Optional[Config] = None, jobs: Optiona
     result.incomplete = bool(result.general and any(f.rule in INCOMPLETE_RULES for f in result.general)) or \
         any(f.incomplete for f in result.files)
     return result
-
-
-def exit_code(result: RunResult, fail_on: str) -> int:
-    from .findings import SEVERITY_RANK
-
-    if result.incomplete:
-        return 2
-    level = SEVERITY_RANK[fail_on]
-    return 1 if any(SEVERITY_RANK.get(f.severity, 0) >= level for f in result.findings) else 0

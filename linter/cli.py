@@ -156,7 +156,8 @@ def _inputs(result) -> set[str]:
 
 def cmd_check(args) -> int:
     from . import reporters
-    from .check import check_paths, exit_code
+    from .check import check_paths
+    from .findings import exit_code
 
     cfg = _config(args)
     if args.output and os.path.realpath(args.output) in {os.path.realpath(p) for p in args.paths}:

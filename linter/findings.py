@@ -5,6 +5,7 @@ which are plain data and pickle cleanly (for ``--jobs``).
 """
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 from typing import Any, Optional
 
@@ -95,3 +96,32 @@ class RunResult:
         for f in self.files:
             out.extend(f.findings)
         return out
+
+
+def jsonable(value: Any) -> Any:
+    """Plain JSON types from numpy scalars/arrays, tuples, non-finite floats (-> None)."""
+    import numpy as np
+
+    if isinstance(value, dict):
+        return {str(k): jsonable(v) for k, v in value.items() if not str(k).startswith("_")}
+    if isinstance(value, (list, tuple)):
+        return [jsonable(v) for v in value]
+    if isinstance(value, np.ndarray):
+        return jsonable(value.tolist())
+    if isinstance(value, (np.floating, float)):
+        f = float(value)
+        return f if math.isfinite(f) else None
+    if isinstance(value, (np.integer,)):
+        return int(value)
+    if isinstance(value, (np.bool_,)):
+        return bool(value)
+    if value is None or isinstance(value, (str, int, bool)):
+        return value
+    return str(value)
+
+
+def exit_code(result: RunResult, fail_on: str) -> int:
+    if result.incomplete:
+        return 2
+    level = SEVERITY_RANK[fail_on]
+    return 1 if any(SEVERITY_RANK.get(f.severity, 0) >= level for f in result.findings) else 0

@@ -1,8 +1,8 @@
 """units/*: one consistent unit system for every number of the model.
 
 The unit system is inferred from the whole model (or declared with ``--units`` / config ``units``)
-by ``linter.derived.units``; see ``linter.unitinfer`` for the score and confidence, and
-``linter.unitdiagnose`` for how a disagreement is attributed to a quantity.
+by ``linter.derived.units``; see ``linter.derived.units.infer`` for the score and confidence, and
+``linter.derived.units.diagnose`` for how a disagreement is attributed to a quantity.
 """
 from linter.registry import rule
 

@@ -18,7 +18,7 @@ import importlib
 from dataclasses import dataclass, field
 from typing import Optional
 
-from ..includes import IncludePolicy
+from .includes import IncludePolicy
 
 ENTRY_POINT_GROUP = "deckwarden.parsers"
 

@@ -129,7 +129,7 @@ def severity_counts(findings) -> dict[str, int]:
 def run_exit_code(result, opts: ReportOptions) -> int:
     if opts.exit_code is not None:
         return int(opts.exit_code)
-    from ..check import exit_code
+    from ..findings import exit_code
 
     try:
         return exit_code(result, opts.fail_on)

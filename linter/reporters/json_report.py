@@ -46,7 +46,7 @@ def _located(item: dict, label: str) -> dict[str, Any]:
 def build(result, options=None) -> dict[str, Any]:
     """The report as plain JSON types (no NaN or infinity anywhere)."""
     from .. import CAUTION, __version__
-    from ..check import jsonable
+    from ..findings import jsonable
 
     opts = as_options(options)
     files = []

@@ -78,7 +78,7 @@ def _result(f, index: int) -> dict[str, Any]:
 
 def build(result, options=None) -> dict[str, Any]:
     from .. import CAUTION, __version__
-    from ..check import jsonable
+    from ..findings import jsonable
 
     opts = as_options(options)
     findings = sorted_findings(result.general) + [f for fr in result.files for f in sorted_findings(fr.findings)]

@@ -6,7 +6,7 @@ from typing import Optional
 
 from ...model import (DeckModel, ElementBlock, ElementSet, Issue, Lazy, Load, Loc, MaterialRef, Procedure,
                       Section, Step, Unchecked)
-from ...sources import read_deck_bytes
+from ..sources import read_deck_bytes
 from . import mesh as M
 from .materials import MaterialReader, is_uncoupled
 from .scan import scan

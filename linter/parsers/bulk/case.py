@@ -1,0 +1,221 @@
+"""Executive and case control of a bulk deck (SOL, SUBCASE, TEMP/LOAD/METHOD selections),
+the steps and loads built from them, and coordinate systems for GRID positions.
+
+SOL numbers and names: formats.md 5.9 (MYSTRAN, NASTRAN-95 rigid formats, later dialects).
+Coordinate systems CORD2R/C/S, CORD1R: NASTRAN-95 User's Manual (BULK.TXT, CORD2R remarks),
+as summarised in common practice (A = origin, B on the z axis, C in the xz plane).
+"""
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass, field
+from typing import Optional
+
+import numpy as np
+
+from ...model import DeckModel, Load, Loc, Procedure, Step
+from .fields import FieldError, real
+
+SOL_NUMBERS = {
+    "101": "static", "103": "frequency", "104": "static", "105": "buckle", "106": "static",
+    "129": "dynamic-implicit", "108": "frequency-response", "111": "frequency-response",
+    "109": "dynamic-implicit", "112": "modal-dynamic", "107": "complex-frequency", "110": "complex-frequency",
+    "153": "heat-steady", "159": "heat-transient", "31": "frequency",
+    # NASTRAN-95 rigid formats (displacement approach)
+    "1": "static", "2": "static", "3": "frequency", "4": "static", "5": "buckle", "6": "static",
+    "7": "complex-frequency", "10": "complex-frequency", "8": "frequency-response", "11": "frequency-response",
+    "9": "dynamic-implicit", "12": "modal-dynamic",
+}
+HEAT_RIGID = {"1": "heat-steady", "3": "heat-steady", "9": "heat-transient"}
+SOL_NAMES = {"STATICS": "static", "STATIC": "static", "SESTATIC": "static", "MODES": "frequency",
+             "SEMODES": "frequency", "NORMAL": "frequency", "BUCKLING": "buckle", "SEBUCKL": "buckle",
+             "DIFFEREN": "static", "NLSTATIC": "static", "NLTRAN": "dynamic-implicit", "GEN": "frequency",
+             "SEDFREQ": "frequency-response", "SEMFREQ": "frequency-response", "SEDTRAN": "dynamic-implicit",
+             "SEMTRAN": "modal-dynamic"}
+_ASSIGN = re.compile(r"^\s*([A-Z][A-Z0-9]*(?:\s*\([^)]*\))?)\s*=\s*([^\s,]*)")
+
+
+@dataclass
+class CaseControl:
+    sol: Optional[str] = None
+    sol_loc: Optional[Loc] = None
+    heat: bool = False
+    cend: bool = False
+    #: [(name, loc, {key: value})]; the first entry (name None) holds the global settings
+    subcases: list = field(default_factory=list)
+
+    def line(self, text: str, loc: Loc) -> None:
+        up = text.split("$", 1)[0].upper().rstrip()
+        s = up.strip()
+        if not s:
+            return
+        if not self.cend:
+            if s.startswith("CEND"):
+                self.cend = True
+            elif re.match(r"SOL\b", s):
+                tok = s[3:].strip().replace(",", " ").split()
+                if tok:
+                    self.sol, self.sol_loc = tok[0], loc
+            elif re.match(r"APP\b", s) and "HEAT" in s:
+                self.heat = True
+            return
+        if not self.subcases:
+            self.subcases.append([None, loc, {}])
+        m = re.match(r"SUBCASE\s+(\d+)", s)
+        if m:
+            self.subcases.append([f"SUBCASE {m.group(1)}", loc, {}])
+            return
+        m = _ASSIGN.match(s)
+        if m:
+            key = re.sub(r"\s+", "", m.group(1))
+            if key == "TEMPERATURE" or key.startswith("TEMPERATURE("):
+                key = "TEMP" + key[len("TEMPERATURE"):]
+            self.subcases[-1][2][key] = m.group(2)
+
+    def kind(self) -> str:
+        if self.sol is None:
+            return "other"
+        if self.heat and self.sol in HEAT_RIGID:
+            return HEAT_RIGID[self.sol]
+        return SOL_NUMBERS.get(self.sol) or SOL_NAMES.get(self.sol, "other")
+
+
+def _sid(v: str) -> Optional[str]:
+    v = v.strip()
+    return str(int(v)) if v.lstrip("+-").isdigit() else None
+
+
+def build_steps(model: DeckModel, cc: CaseControl, loads: dict[str, list[Load]], temps: dict[str, list[Load]],
+                tempd: dict[str, list[Load]], combos: dict[str, list[str]]) -> None:
+    """Steps from the subcases; loads and temperatures selected by LOAD=/TEMP(LOAD)=/TEMP=/TEMP(INIT)=."""
+    if cc.sol is not None:
+        model.params["SOL"] = cc.sol
+    glob = cc.subcases[0][2] if cc.subcases else {}
+    subs = cc.subcases[1:] or ([[None, cc.sol_loc, {}]] if cc.sol is not None else [])
+    init_sids: set[str] = set()
+    any_temp_selection = False
+    for name, loc, settings in subs:
+        merged = {**glob, **settings}
+        loc = loc or cc.sol_loc or Loc(model.path, 1)
+        kind = cc.kind()
+        opts = {"SOL": cc.sol}
+        for k in ("METHOD", "LOAD", "SPC", "TEMP", "TEMP(LOAD)", "TEMP(INIT)", "TEMP(BOTH)", "TEMP(MATERIAL)"):
+            if k in merged:
+                opts[k] = merged[k]
+        proc = Procedure(kind, "SOL", cc.sol_loc or loc, options=opts)
+        step = Step(name or f"SOL {cc.sol}", loc, [proc])
+        lsid = _sid(merged.get("LOAD", ""))
+        if lsid:
+            for sid in [lsid] + combos.get(lsid, []):
+                step.loads.extend(loads.get(sid, ()))
+        for key in ("TEMP(LOAD)", "TEMP", "TEMP(BOTH)"):
+            tsid = _sid(merged.get(key, ""))
+            if tsid:
+                any_temp_selection = True
+                step.loads.extend(temps.get(tsid, []) + tempd.get(tsid, []))
+                break
+        for key in ("TEMP(INIT)", "TEMP(BOTH)", "TEMP(MATERIAL)"):
+            isid = _sid(merged.get(key, ""))
+            if isid:
+                any_temp_selection = True
+                init_sids.add(isid)
+        model.steps.append(step)
+    for sid in init_sids:
+        model.initial_temperatures.extend(temps.get(sid, []) + tempd.get(sid, []))
+    if not any_temp_selection:
+        for lst in tempd.values():
+            model.initial_temperatures.extend(lst)
+
+
+# --------------------------------------------------------------------------- coordinate systems
+
+
+def _r(text: str) -> float:
+    try:
+        v = real(text)
+    except FieldError:
+        return math.nan
+    return 0.0 if v is None else v
+
+
+def cord_systems(cards, grid_lookup) -> tuple[dict[int, tuple[str, np.ndarray, np.ndarray]], list[str]]:
+    """cid -> (type R/C/S, origin (3,), rotation (3,3) local->basic), and the ids that could not be resolved."""
+    raw: dict[int, tuple] = {}
+    for c in cards:
+        try:
+            cid = int(c.s(2))
+        except ValueError:
+            continue
+        if c.name == "CORD1R":
+            raw[cid] = ("R", None, [c.s(3), c.s(4), c.s(5)], c)
+        else:
+            pts = [_r(c.s(n)) for n in range(4, 13)]
+            raw[cid] = (c.name[-1], c.s(3), pts, c)
+    done: dict[int, tuple] = {0: ("R", np.zeros(3), np.eye(3))}
+    failed: list[str] = []
+
+    def to_basic(cid: int, p: np.ndarray) -> np.ndarray:
+        t, o, rot = done[cid]
+        with np.errstate(invalid="ignore", over="ignore"):     # a non-finite point stays so: solve() rejects it
+            return o + rot @ local_to_rect(t, p[None, :])[0]
+
+    def solve(cid: int, depth: int = 0) -> bool:
+        if cid in done:
+            return True
+        if cid not in raw or depth > 20:
+            return False
+        typ, ref, pts, card = raw[cid]
+        if ref is None:  # CORD1R: three grids in the basic system
+            xyz = [grid_lookup(g) for g in pts]
+            if any(x is None for x in xyz):
+                return False
+            a, b, cpt = xyz
+        else:
+            rid = int(ref) if ref.strip().lstrip("-").isdigit() else 0
+            if not solve(rid, depth + 1):
+                return False
+            a, b, cpt = (to_basic(rid, np.array(pts[i:i + 3])) for i in (0, 3, 6))
+        z = b - a
+        if not np.all(np.isfinite(z)) or np.linalg.norm(z) == 0:
+            return False
+        z = z / np.linalg.norm(z)
+        y = np.cross(z, cpt - a)
+        if np.linalg.norm(y) == 0:
+            return False
+        y = y / np.linalg.norm(y)
+        x = np.cross(y, z)
+        done[cid] = (typ, a, np.column_stack((x, y, z)))
+        return True
+
+    for cid in raw:
+        if not solve(cid):
+            failed.append(str(cid))
+    return done, failed
+
+
+def local_to_rect(typ: str, p: np.ndarray) -> np.ndarray:
+    if typ == "C":
+        r, th, z = p[:, 0], np.radians(p[:, 1]), p[:, 2]
+        return np.column_stack((r * np.cos(th), r * np.sin(th), z))
+    if typ == "S":
+        r, th, ph = p[:, 0], np.radians(p[:, 1]), np.radians(p[:, 2])
+        return np.column_stack((r * np.sin(th) * np.cos(ph), r * np.sin(th) * np.sin(ph), r * np.cos(th)))
+    return p
+
+
+def apply_systems(cp: np.ndarray, xyz: np.ndarray, systems) -> tuple[np.ndarray, list[int]]:
+    """Basic coordinates of grid points given in systems ``cp``; also the CP ids that are not defined."""
+    out = xyz.copy()
+    missing = []
+    for c in np.unique(cp):
+        c = int(c)
+        if c == 0:
+            continue
+        sel = cp == c
+        if c not in systems:
+            missing.append(c)
+            continue
+        t, o, rot = systems[c]
+        out[sel] = o + local_to_rect(t, xyz[sel]) @ rot.T
+    return out, missing
