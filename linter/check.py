@@ -54,6 +54,7 @@ def check_file(path: str, fmt: str, config: Config, policy: IncludePolicy) -> Fi
     try:
         mod = parsers.get(fmt)
         opts = parsers.ParseOptions(dialect=dialect, include=policy, max_file_size=config.max_file_size,
+                                    materials=config.materials if fmt == "mesh" else None,
                                     display_path=path)
         model = mod.parse(path, opts)
     except SourceError as exc:
@@ -120,10 +121,11 @@ def check_paths(paths: list[str], config: Optional[Config] = None, jobs: Optiona
     config = config or Config()
     result = RunResult()
     registry.load()
-    for name, detail in registry.plugin_errors():
-        result.general.append(Finding(rule="internal/plugin-failed", severity="error",
-                                      message=f"rule plugin {name!r} could not be loaded: {detail}",
-                                      path=None, line=None, data={"plugin": name, "detail": detail}))
+    for kind, errors in (("rule", registry.plugin_errors()), ("parser", parsers.plugin_errors())):
+        for name, detail in errors:
+            result.general.append(Finding(rule="internal/plugin-failed", severity="error",
+                                          message=f"{kind} plugin {name!r} could not be loaded: {detail}",
+                                          path=None, line=None, data={"plugin": name, "detail": detail}))
     jobs = max(1, int(jobs or config.jobs or 1))
     policy = make_policy(paths, config)
     if jobs > 1 and (len(paths) > 1 or any(os.path.isdir(p) for p in paths)):

@@ -49,6 +49,8 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--include-root", metavar="DIR", help="includes may not resolve outside this folder")
     c.add_argument("--allow-include-outside", action="store_true", help="allow includes anywhere")
     c.add_argument("--units", metavar="SYSTEM", help="declare the unit system instead of inferring it")
+    c.add_argument("--materials", metavar="FILE",
+                   help="material file (deckwarden: 1) for the mesh files given (Gmsh, VTK, XDMF, MED ...)")
     c.add_argument("--select", action="append", default=[], metavar="ID|FAMILY",
                    help="run only these rules or families (repeatable, or comma-separated)")
     c.add_argument("--ignore", action="append", default=[], metavar="ID|FAMILY",
@@ -116,6 +118,13 @@ def _config(args):
         cfg.allow_include_outside = True
     if args.units:
         cfg.units = args.units
+    if args.materials:
+        if not os.path.isfile(args.materials):
+            raise UsageError(f"--materials {args.materials}: not a file")
+        folders = [p for p in args.paths if os.path.isdir(p)]
+        if folders:
+            raise UsageError(f"--materials takes mesh files, not folders ({folders[0]})")
+        cfg.materials = args.materials
     select, ignore = _split(args.select), _split(args.ignore)
     _check_rule_names(select + ignore)
     if select:

@@ -24,8 +24,9 @@ engine_rule(
 )
 engine_rule(
     "internal/plugin-failed", severity="error",
-    title="A rule plugin could not be loaded",
-    rationale="A third-party rule pack registered under the entry-point group deckwarden.rules failed to "
-              "import; its rules did not run.",
+    title="A rule or parser plugin could not be loaded",
+    rationale="A third-party rule pack (entry-point group deckwarden.rules) or format parser (group "
+              "deckwarden.parsers) failed to import, or a parser module lacks FORMAT, EXTENSIONS, sniff or "
+              "parse: its rules did not run, or decks of its format were not recognised.",
     data="plugin, detail",
 )

@@ -63,7 +63,7 @@ if not FORMATS:
 
 
 def ext_of(fmt: str) -> str:
-    return parsers.EXTENSIONS.get(fmt, (getattr(parsers.get(fmt), "EXTENSIONS", (".txt",)) or (".txt",)))[0]
+    return (parsers.extensions().get(fmt) or (".txt",))[0]
 
 
 # --------------------------------------------------------------------------- properties

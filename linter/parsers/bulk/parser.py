@@ -23,6 +23,7 @@ import numpy as np
 
 from ..includes import IncludeTracker
 from ...model import DeckModel, ElementBlock, ElementSet, Include, Issue, Lazy, Load, Loc, MassSource
+from . import DEFAULT_DIALECT, FORMAT
 from ..sources import SourceError, read_deck_bytes, text
 from . import case as bc
 from .cards import OTHER_MATS, PROPERTY_CARDS, SLOW_CARDS, THERMAL_MATS, Builder, Card, tables_of
@@ -30,9 +31,6 @@ from .fields import FieldError, continuation_marker, real, split_line
 from .lines import Lines, carve, classify, line_table
 from .mesh import ELEMENTS, FAST, accept_run, build_elements, read_fast, build_geometry, read_slow_elements  # noqa: F401 (ELEMENTS re-exported)
 
-FORMAT = "bulk"
-EXTENSIONS = (".bdf", ".dat", ".nas", ".blk", ".bulk")
-DEFAULT_DIALECT = "mystran"
 
 _BEGIN = re.compile(rb"(?im)^[ \t]*BEGIN[ \t]+BULK")
 _INCLUDE_ANY = re.compile(rb"(?im)^INCLUDE")

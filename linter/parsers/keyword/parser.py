@@ -19,15 +19,13 @@ import numpy as np
 
 from ..includes import IncludeTracker
 from ...model import DeckModel, Include, Loc, Material, Procedure, Unchecked, norm_key
+from . import DEFAULT_DIALECT, FORMAT
 from ..sources import SourceError, read_deck_bytes
 from . import cards
 from . import mesh
 from .lex import KeywordLine, Reader, parse_keyword_line
 from .materials import MATERIAL_CARDS, read_material_card
 
-FORMAT = "keyword"
-EXTENSIONS = (".inp",)
-DEFAULT_DIALECT = "calculix"
 MAX_NAME = 80
 
 #: a newline followed by a keyword, comment or blank line (the match ends where that line starts)
@@ -400,6 +398,3 @@ def parse(path: str, options) -> DeckModel:
     p = _Parser(path, options)
     p.read_file(path, p.display)
     return p.finish()
-
-
-__all__ = ["FORMAT", "EXTENSIONS", "DEFAULT_DIALECT", "sniff", "parse", "includes_of"]
