@@ -222,15 +222,18 @@ def cmd_rules(args) -> int:
         doc = [{"id": r.id, "severity": r.severity, "title": r.title, "rationale": r.rationale,
                 "references": list(r.references), "data": r.data, "pack": r.pack,
                 "formats": list(r.formats) if r.formats else None,
-                "dialects": list(r.dialects) if r.dialects else None} for r in rules]
+                "dialects": list(r.dialects) if r.dialects else None, "incomplete": r.incomplete} for r in rules]
         sys.stdout.write(json.dumps(doc, indent=2, ensure_ascii=False) + "\n")
     else:
         w = max((len(r.id) for r in rules), default=10)
         for r in rules:
             sys.stdout.write(f"{r.id:<{w}}  {r.severity:<7}  {r.title}\n")
         sys.stdout.write(f"{len(rules)} rules\n")
-    for name, detail in registry.plugin_errors():
-        print(f"deckwarden: rule plugin {name!r} could not be loaded: {detail}", file=sys.stderr)
+    from . import parsers
+
+    for kind, errors in (("rule", registry.plugin_errors()), ("parser", parsers.plugin_errors())):
+        for name, detail in errors:
+            print(f"deckwarden: {kind} plugin {name!r} could not be loaded: {detail}", file=sys.stderr)
     return 0
 
 
@@ -262,6 +265,8 @@ def cmd_explain(args) -> int:
         out.append(f"formats: {', '.join(r.formats)}\n")
     if r.dialects:
         out.append(f"dialects: {', '.join(r.dialects)}\n")
+    if r.incomplete:
+        out.append("a finding of this rule makes the check incomplete (exit code 2)\n")
     out.append(para("why", r.rationale or "(no rationale given)"))
     out.append("references:\n" + ("".join(f"  - {ref}\n" for ref in r.references) or "  (none)\n"))
     out.append(para("finding data", r.data or "(nothing beyond the message)"))

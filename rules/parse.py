@@ -92,9 +92,14 @@ ISSUE_RULES = {
 }
 
 
+#: issues that mean part of the input was not read: the check is incomplete (exit code 2)
+INCOMPLETE_ISSUES = ("include-refused", "include-unreadable", "xml-refused", "xml-malformed", "xml-unavailable",
+                     "unsupported-version")
+
+
 def _make(code, severity, title, rationale, refs):
     @rule(f"parse/{code}", severity=severity, title=title, rationale=rationale, references=refs,
-          data="as recorded by the parser (e.g. field, value, read_as)")
+          data="as recorded by the parser (e.g. field, value, read_as)", incomplete=code in INCOMPLETE_ISSUES)
     def _issue_rule(model, ctx, _code=code):
         for iss in model.issues:
             if iss.code == _code:
@@ -117,14 +122,19 @@ for _code, (_sev, _title, _why, _refs) in ISSUE_RULES.items():
     _make(_code, _sev, _title, _why, _refs)
 
 engine_rule("parse/path-not-found", severity="error", title="A path given does not exist",
-            rationale="The check is incomplete: a named file or folder does not exist (exit code 2).")
+            rationale="The check is incomplete: a named file or folder does not exist (exit code 2).", incomplete=True)
 engine_rule("parse/file-unreadable", severity="error", title="A file cannot be read",
-            rationale="Permissions, a broken link or an I/O error: the file was not checked (exit code 2).")
+            rationale="Permissions, a broken link or an I/O error: the file was not checked (exit code 2).",
+            incomplete=True)
 engine_rule("parse/binary-file", severity="error", title="A file is binary, not a text deck",
-            rationale="The file holds NUL bytes or control characters; it was not checked (exit code 2).")
+            rationale="The file holds NUL bytes or control characters; it was not checked (exit code 2).",
+            incomplete=True)
 engine_rule("parse/file-too-large", severity="error", title="A file is over the size limit",
-            rationale="Files over max_file_size_mb are not read, so that a hostile deck cannot exhaust memory.")
+            rationale="Files over max_file_size_mb are not read, so that a hostile deck cannot exhaust memory.",
+            incomplete=True)
 engine_rule("parse/not-a-deck", severity="error", title="A file given is not a deck of a known format",
-            rationale="A file named explicitly on the command line does not look like any supported format.")
+            rationale="A file named explicitly on the command line does not look like any supported format.",
+            incomplete=True)
 engine_rule("parse/no-deck-found", severity="error", title="No deck was found",
-            rationale="The paths given hold no file of a supported format; nothing was checked (exit code 2).")
+            rationale="The paths given hold no file of a supported format; nothing was checked (exit code 2).",
+            incomplete=True)

@@ -12,7 +12,7 @@ from typing import Optional
 import numpy as np
 
 from ...model import ElementBlock, ElementSet, Geometry, Issue, Lazy, Loc
-from . import case as bc
+from . import coords
 from .cards import Card
 from .fields import FieldError, real, vec_int, vec_real
 from .lines import Lines, comma_counts, data_fields, free_counts, line_table
@@ -364,8 +364,8 @@ def _geometry(parts: list, builder_cards: list[Card], total: int, runs: list, so
             _grid_cols(None, "GRID", part)
             return part.cols["xyz"][0] if not grdset or int(_safe_real(grdset[-1].s(3)) or 0) == 0 else None
 
-        systems, failed = bc.cord_systems(cords, lookup)
-        xyz, missing = bc.apply_systems(cp, xyz, systems)
+        systems, failed = coords.cord_systems(cords, lookup)
+        xyz, missing = coords.apply_systems(cp, xyz, systems)
         if missing:
             geo.exact = False
             note.append("coordinate systems CP " + ", ".join(map(str, missing)) + " were not applied "
