@@ -20,7 +20,7 @@ import numpy as np
 from ...catalogue import Catalogue
 from ...model import ElementBlock, ElementSet, Lazy, Loc, norm_key
 from .evaluate import Keywords, Opaque
-from .mail import Mesh, cell_dim
+from .mail import Mesh, cell_dim, sorted_unique
 
 DIALECT = "code_aster"
 PHENOMENA = {"MECANIQUE": "", "THERMIQUE": "THERMIQUE:", "ACOUSTIQUE": "ACOUSTIQUE:"}
@@ -91,7 +91,8 @@ def select(use: MeshUse, occ: Keywords) -> tuple[str, Optional[np.ndarray], str]
             if st != "ok":
                 return st, None, g
             parts.append(idx)
-        return state, np.unique(np.concatenate(parts)) if parts else np.zeros(0, np.int64), ", ".join(groups)
+        idx = parts[0] if len(parts) == 1 else sorted_unique(np.concatenate(parts))
+        return state, idx, ", ".join(groups)
     cells = names(occ.get("MAILLE"))
     if cells and use.mesh is not None:
         idx = use.mesh.cells_named(cells)

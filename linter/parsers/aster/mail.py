@@ -18,7 +18,7 @@ import numpy as np
 
 from .. import sampling
 
-CHUNK = 8 << 20
+CHUNK = 1 << 20
 _WORD = re.compile(rb"[A-Za-z_][A-Za-z0-9_]*")
 _COMMENT = re.compile(rb"%[^\n]*")
 #: topological dimension of the cell types by their name
@@ -81,28 +81,49 @@ class Mesh:
     bbox: Optional[tuple[np.ndarray, np.ndarray]] = None
     bbox_exact: bool = True
     _index: Optional[tuple[np.ndarray, np.ndarray]] = None
+    _keys: Optional[np.ndarray] = None
 
     @property
     def cell_count(self) -> int:
         return sum(c.count for c in self.cells)
 
     def group_cells(self, name: str) -> Optional[np.ndarray]:
-        """Global indices of the cells of GROUP_MA ``name`` (None when the mesh has no such group)."""
+        """Global indices of the cells of GROUP_MA ``name``, sorted (None when the mesh has no such group)."""
         parts = self.groups.get(name)
         if parts is None:
             return None
-        keys, order = self._cell_index()
         out = []
         for g in parts:
             names = _names(g.buf, g.start, g.end, 1, 0)
-            pos = np.searchsorted(keys, names)
-            pos = np.minimum(pos, max(len(keys) - 1, 0))
+            run = self._run_of(names)
+            if run is not None:
+                out.append(run)
+                continue
+            keys, order = self._cell_index()
+            pos = np.minimum(np.searchsorted(keys, names), max(len(keys) - 1, 0))
             ok = keys[pos] == names if len(keys) else np.zeros(len(names), bool)
             if not ok.all():
                 self.issues.append(MeshIssue("malformed-data", f"GROUP_MA {name} names {int((~ok).sum())} cell(s) "
                                              "that the mesh does not define", g.line))
             out.append(order[pos[ok]])
-        return np.unique(np.concatenate(out)) if out else np.zeros(0, np.int64)
+        return sorted_unique(np.concatenate(out) if len(out) > 1 else out[0])
+
+    def _run_of(self, names: np.ndarray) -> Optional[np.ndarray]:
+        """The indices when the group lists a run of consecutive cells in file order (the usual layout)."""
+        allk = self._cell_keys()
+        if not len(names) or not len(allk):
+            return None
+        first = np.flatnonzero(allk == names[0])
+        if len(first) != 1 or first[0] + len(names) > len(allk):
+            return None
+        p = int(first[0])
+        return np.arange(p, p + len(names), dtype=np.int64) if np.array_equal(allk[p:p + len(names)], names) else None
+
+    def _cell_keys(self) -> np.ndarray:
+        if self._keys is None:
+            keys = [_names(c.buf, c.start, c.end, c.nodes + 1, 0) for c in self.cells]
+            self._keys = np.concatenate(keys) if keys else np.zeros(0, np.uint64)
+        return self._keys
 
     def cells_named(self, cell_names: list[str]) -> Optional[np.ndarray]:
         """Global indices of the cells named (None when one of them is not in the mesh)."""
@@ -114,19 +135,26 @@ class Mesh:
         pos = np.minimum(np.searchsorted(keys, wanted), len(keys) - 1)
         if not (keys[pos] == wanted).all():
             return None
-        return np.unique(order[pos])
+        return sorted_unique(order[pos])
 
     def _cell_index(self) -> tuple[np.ndarray, np.ndarray]:
         """Sorted packed cell names and the global index of each."""
         if self._index is None:
-            keys = [_names(c.buf, c.start, c.end, c.nodes + 1, 0) for c in self.cells]
-            allk = np.concatenate(keys) if keys else np.zeros(0, np.uint64)
+            allk = self._cell_keys()
             order = np.argsort(allk, kind="stable")
             self._index = (allk[order], order.astype(np.int64))
         return self._index
 
 
 # ------------------------------------------------------------------------------------ tokens
+
+
+def sorted_unique(a: np.ndarray) -> np.ndarray:
+    """``np.unique`` of an index array, without the work when it is already strictly increasing."""
+    if a.size < 2 or bool((a[1:] > a[:-1]).all()):
+        return a
+    a = np.sort(a)
+    return a[np.concatenate(([True], a[1:] != a[:-1]))]
 
 
 def _chunks(buf: bytes, start: int, end: int):
@@ -140,12 +168,6 @@ def _chunks(buf: bytes, start: int, end: int):
         pos = stop
 
 
-def _bounds(arr: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    ws = arr <= 32
-    edge = np.diff(ws.view(np.int8), prepend=np.int8(1), append=np.int8(1))
-    return np.flatnonzero(edge == -1), np.flatnonzero(edge == 1)
-
-
 def count_tokens(buf: bytes, start: int, end: int) -> int:
     total = 0
     for a, b in _chunks(buf, start, end):
@@ -155,20 +177,25 @@ def count_tokens(buf: bytes, start: int, end: int) -> int:
 
 
 def _names(buf: bytes, start: int, end: int, every: int, phase: int) -> np.ndarray:
-    """Tokens number phase, phase+every, ... of buf[start:end], each packed into a uint64 (8 bytes, zero-padded)."""
+    """Tokens number phase, phase+every, ... of buf[start:end], each packed into a uint64 (8 bytes, zero-padded,
+    in upper case). A name longer than 8 characters is cut to 8, as the native format allows no more."""
     out, seen = [], 0
     for a, b in _chunks(buf, start, end):
         arr = np.frombuffer(buf, np.uint8, b - a, a)
-        s, e = _bounds(arr)
-        idx = np.arange(seen, seen + len(s))
-        pick = (idx - phase) % every == 0
+        ws = arr <= 32
+        s = np.flatnonzero(ws[:-1] & ~ws[1:]) + 1
+        if arr.size and not ws[0]:
+            s = np.concatenate(([0], s))
+        first = (phase - seen) % every
         seen += len(s)
-        s, e = s[pick], e[pick]
+        s = s[first::every]
         key = np.zeros(len(s), np.uint64)
+        inside = np.ones(len(s), bool)
+        last = len(arr) - 1
         for j in range(8):
-            inside = s + j < e
-            byte = arr[np.minimum(s + j, len(arr) - 1)]
-            byte = np.where((byte >= 97) & (byte <= 122), byte - 32, byte).astype(np.uint64)   # names in upper case
+            byte = arr[np.minimum(s + j, last)]
+            inside &= (byte > 32) & (s + j <= last)
+            byte = np.where((byte >= 97) & (byte <= 122), byte - 32, byte)      # names in upper case
             key |= np.where(inside, byte, 0).astype(np.uint64) << np.uint64(8 * j)
         out.append(key)
     return np.concatenate(out) if out else np.zeros(0, np.uint64)
@@ -178,17 +205,20 @@ def _names(buf: bytes, start: int, end: int, every: int, phase: int) -> np.ndarr
 
 
 def _section_end(data: bytes, pos: int, end: int) -> tuple[int, Optional[bytes]]:
-    """Offset of the FINSF (or FIN) line that closes the section after ``pos``, and which word it is."""
+    """Offset of the FINSF line that closes the section after ``pos`` (or of a FIN line when no FINSF
+    follows: the file then ends inside the section), and which word it is."""
     while True:
-        p = data.find(b"FIN", pos, end)
+        p = data.find(b"FINSF", pos, end)
         if p < 0:
-            return end, None
+            break
         ls = data.rfind(b"\n", 0, p) + 1
-        word = b"FINSF" if data.startswith(b"FINSF", p) else b"FIN"
-        after = data[p + len(word): p + len(word) + 1]
+        after = data[p + 5: p + 6]
         if not data[ls:p].strip() and (not after or after in b" \t\r\n%"):
-            return p, word
-        pos = p + 3
+            return p, b"FINSF"
+        pos = p + 5
+    for m in re.finditer(rb"(?m)^[ \t]*FIN[ \t\r%]*$", data[pos:end]) if end - pos < (64 << 20) else ():
+        return pos + m.start() + m.group().index(b"FIN"), b"FIN"
+    return end, None
 
 
 def _header(data: bytes, pos: int, end: int) -> tuple[list[bytes], int, int]:
@@ -213,7 +243,8 @@ def _header(data: bytes, pos: int, end: int) -> tuple[list[bytes], int, int]:
 def read_mail(data: bytes, path: str) -> Mesh:
     """Sections of a ``.mail`` file held in ``data`` (ASCII, ``\\n`` line ends)."""
     mesh = Mesh(path)
-    if data.find(b"finsf") >= 0 or data.find(b"Finsf") >= 0:   # keywords and names are read in upper case
+    head = data[: 1 << 20]
+    if head.find(b"finsf") >= 0 or head.find(b"Finsf") >= 0:   # lower-case keywords: names read in upper case
         data = data.upper()
     pos, line, end = 0, 1, len(data)
     node_ranges = []
@@ -290,6 +321,12 @@ def _section(mesh: Mesh, word: str, words: list[bytes], buf: bytes, b0: int, b1:
 
 
 def _floats(chunk: bytes, dim: int) -> np.ndarray:
+    toks = chunk.split()
+    if toks and len(toks) % (dim + 1) == 0:
+        try:
+            return np.array(toks).reshape(-1, dim + 1)[:, 1:].astype(float)
+        except ValueError:          # a line with another field count, or Fortran D exponents: line by line
+            pass
     rows = []
     for ln in chunk.split(b"\n"):
         parts = ln.split()

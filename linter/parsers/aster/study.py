@@ -217,8 +217,7 @@ class StudyBuilder:
     def _covers(self, key: str) -> bool:
         from ...usage import resolve_set
 
-        sel = resolve_set(self.model, key)
-        self.model.derived.pop("_sets", None)
+        sel = resolve_set(self.model, key)      # cached per set key: the rules reuse it
         return bool(sel and sel.counts(self.model))
 
     def _pair(self, cmd: Command) -> None:
