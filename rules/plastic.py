@@ -9,6 +9,7 @@ not a table, and are not checked here.
 """
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 from typing import Optional
@@ -128,6 +129,25 @@ def density(mat):
         return None
     rho = float(blk.column("rho")[0])
     return rho if rho > 0 else None
+
+
+#: the classes ``plastic/yield-vs-modulus`` tells apart, with their yield-strain threshold
+YIELD_CLASSES = ("metal", "polymer")
+
+
+@functools.cache
+def class_data():
+    """(stress scales, density scales, class bands) from ``linter/data/units.yaml``: the unit systems and
+    material-class bands of the unit inference, one source for both."""
+    from linter.derived.units.infer import load_data
+
+    data = load_data()
+    bands = {c: {q: data.band(c, q) for q in ("E", "rho")} for c in YIELD_CLASSES}
+    return data.scales("stress"), data.scales("density"), bands
+
+
+def material_class(E, rho) -> str:
+    return P.material_class(E, rho, *class_data())
 
 
 def _where(mat, t) -> str:
@@ -298,7 +318,7 @@ def yield_vs_modulus(model, ctx):
             E = elastic_modulus(mat, t)
             if not (y > 0) or not E or not (E > 0):
                 continue
-            cls = P.material_class(E, density(mat))
+            cls = material_class(E, density(mat))
             band = metal if cls == "metal" else polymer
             ratio = y / E
             if band[0] <= ratio <= band[1]:
