@@ -236,7 +236,8 @@ def softening(model, ctx):
       rationale="A hardening table takes plastic strain eps_p = eps - sigma/E as a fraction. A point whose "
                 "strain equals sigma/E is the elastic part of a total-strain curve; strains above 2 are "
                 "probably percent.",
-      references=(PHYS, CCX_PL), data="temperature, line, strain, elastic_strain, reason")
+      references=(PHYS, CCX_PL), data="temperature, line, strain, elastic_strain, reason",
+      thresholds=("plastic.total_strain_rel_tol",))
 def total_strain_given(model, ctx):
     tol = float(ctx.threshold("plastic.total_strain_rel_tol"))
     for mat, blk in plastic_blocks(model):
@@ -307,7 +308,8 @@ def zero_yield(model, ctx):
       rationale="sigma_y/E is about 1e-3 to 1e-2 for metals and up to a few percent for polymers; far "
                 "outside, the yield stress and E are probably in different units (e.g. Pa against MPa).",
       references=(PHYS, "physics.md 5.5 handbook properties"),
-      data="temperature, line, yield_stress, E, yield_strain, material_class, band")
+      data="temperature, line, yield_stress, E, yield_strain, material_class, band",
+      thresholds=("plastic.yield_strain_metal", "plastic.yield_strain_polymer"))
 def yield_vs_modulus(model, ctx):
     metal = tuple(float(x) for x in ctx.threshold("plastic.yield_strain_metal"))
     polymer = tuple(float(x) for x in ctx.threshold("plastic.yield_strain_polymer"))
