@@ -31,7 +31,7 @@ from .findings import SEVERITIES
 from .safe_yaml import load_package_yaml, load_yaml_file
 
 CONFIG_NAMES = ("deckwarden.yaml", ".deckwarden.yaml")
-DEFAULT_DIALECTS = {"keyword": "calculix", "bulk": "mystran", "mesh": "meshio"}
+DEFAULT_DIALECTS = {"keyword": "calculix", "bulk": "mystran", "mesh": "meshio", "aster": "code_aster"}
 
 
 class ConfigError(ValueError):

@@ -73,6 +73,23 @@ ISSUE_RULES = {
     "duplicate-set": ("note", "A set is defined more than once",
                       "Reopening a set adds to it (CalculiX); a repeated definition is often a copy-paste "
                       "left-over.", ("CCX-UM *ELSET",)),
+    "syntax-error": ("error", "A command file is not valid Python",
+                     "A code_aster command file is a Python program: a syntax error stops the solver before the "
+                     "first command. The line is skipped and the rest of the file is still read as data.",
+                     ("code_aster user manual U1.03.01 (the command file is Python)",)),
+    "code-not-run": ("warning", "A command file holds code that deckwarden does not run",
+                     "deckwarden reads command files as data and never imports, executes or evaluates them. A "
+                     "call to a Python function (open, __import__, a user function) is not followed, so what it "
+                     "computes is not checked; in a file of unknown origin it may also be unsafe to run.",
+                     ("common practice",)),
+    "evaluation-limit": ("warning", "A command file expression is beyond the reader's limits",
+                         "A number, sequence or nesting beyond the limits of the data reader (huge powers, "
+                         "very deep nesting, very long literals) is not computed; the values that depend on it are "
+                         "listed as unchecked.", ("common practice",)),
+    "paired-mesh": ("note", "A command file checked with the mesh of the same base name",
+                    "Without a run profile (.export) the logical units of LIRE_MAILLAGE are not known: the mesh "
+                    "named like the command file is used for unit 20, the solver's default unit.",
+                    ("code_aster LIRE_MAILLAGE: UNITE defaults to 20",)),
     "empty-file": ("warning", "The file holds no deck data", "The file is empty or holds only comments.", ()),
 }
 

@@ -30,6 +30,7 @@ ENTRY_POINT_GROUP = "deckwarden.parsers"
 BUILTIN = {
     "keyword": "linter.parsers.keyword",
     "bulk": "linter.parsers.bulk",
+    "aster": "linter.parsers.aster",
     "mesh": "linter.parsers.mesh",
 }
 #: the attributes every parser module must have (``includes_of`` is optional)
