@@ -62,8 +62,12 @@ def _temp(t: Any) -> str:
     return "-" if t is None else given(t)
 
 
-def block_table(b: dict, units: Units) -> Table:
+def block_table(b: dict, units: Units):
     cols, qs = b.get("columns") or [], b.get("quantities") or []
+    if not b.get("rows"):
+        form = "" if b.get("form") == "iso" else f", {visible(b.get('form'))}"
+        return para(f"{visible(b.get('card'))} ({visible(b.get('kind'))}{form}) at {where(b.get('path'), b.get('line'))}: "
+                    "no values read from it (see Not checked).")
     head = ["T", "line"] + [units.header(visible(c), q) for c, q in zip(cols, qs)]
     rows = []
     for r in b.get("rows") or ():
@@ -148,7 +152,7 @@ def hyper_table(h: dict, units: Units) -> list:
         if r.get("D_defaulted"):
             dtext += " (solver default for a zero D)"
         st = r.get("stability") or {}
-        unstable = "; ".join(_stretches((st.get(m) or {}).get("unstable")) for m in ("UT", "ET", "PS")) \
+        unstable = "; ".join(f"{m} {_stretches((st.get(m) or {}).get('unstable'))}" for m in ("UT", "ET", "PS")) \
             if st else "not scanned"
         body.append([_temp(r.get("temperature")), str(r.get("line") or "")] +
                     [units.cell(r.get(k), q) for k, _h, q in HYPER_COLUMNS] + [dtext, unstable])
@@ -329,15 +333,19 @@ def admissibility_figure(fr, units: Units, band_nu: float) -> tuple[Optional[Fig
                        "elements that lock (severe or mild grade)."), table
 
 
-def materials_part(fr, deck_anchor: str, figures: bool, band_nu: float) -> tuple[list, list]:
+def materials_part(fr, deck_anchor: str, figures: bool, band_nu: float, sure: bool = True) -> tuple[list, list]:
     """Sections of the materials of one deck and their (anchor, title) for the contents."""
     units = Units((fr.details or {}).get("units"))
     out, toc = [], []
     head = Section(f"{deck_anchor}-materials", [H(3, "Materials", f"{deck_anchor}-materials")])
     named = (fr.unit_system or {}).get("name") if isinstance(fr.unit_system, dict) else None
-    if units.system and units.to_si:
+    if units.system and units.to_si and sure:
         head.children.append(para(f"Values are shown as given, in the deck's units ({visible(units.system)}); "
                                   "below each, in smaller type, the same value in SI."))
+    elif units.system and units.to_si:
+        head.children.append(para(f"Values are shown as given; below each, in smaller type, the value in SI "
+                                  f"if the deck's units are {visible(units.system)}, which is only a guess (see "
+                                  "the unit system above)."))
     elif named:
         head.children.append(para(f"Values are shown as given, in the deck's units ({visible(named)})."))
     else:
