@@ -247,9 +247,8 @@ def _unit_paragraphs(us: Any, sure: bool = True) -> list:
                            "(--units) to be sure.")]))
     elif name:
         conf = us.get("confidence")
-        line = [("b", visible(name)), text(f" ({how}"
-                                           + (f", confidence {float(conf):.2f}" if isinstance(conf, (int, float))
-                                              else "") + ")")]
+        shown = isinstance(conf, (int, float)) and how == "inferred"
+        line = [("b", visible(name)), text(f" ({how}" + (f", confidence {float(conf):.2f}" if shown else "") + ")")]
         out.append(P([text("Unit system: ")] + line))
     else:
         out.append(para("Unit system: not determined (too little evidence for a confident choice)."))

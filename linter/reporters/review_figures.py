@@ -34,7 +34,8 @@ def _pyplot():
             import matplotlib.pyplot as plt
 
             plt.rcParams.update({"svg.fonttype": "path", "svg.hashsalt": "deckwarden", "font.size": 9,
-                                 "axes.grid": True, "grid.alpha": 0.3, "xtick.minor.visible": False, "ytick.minor.visible": False})
+                                 "axes.grid": True, "grid.alpha": 0.3, "xtick.minor.visible": False,
+                                 "ytick.minor.visible": False})
             _MPL = plt
         except Exception:  # not installed, or broken: figures are skipped
             _MPL = False
