@@ -100,7 +100,8 @@ def wave_speeds(mat) -> Optional[tuple[float, float, str]]:
       rationale="The central-difference method is stable for dt <= L_e / c_d. Near-incompressible materials "
                 "have a dilatational speed far above the shear speed, so their bulk stiffness, not their "
                 "shear stiffness, sets (and shrinks) the step.",
-      references=(BLM,), data="length, length_estimated, cd, cs, dt, dt_shear, ratio, source")
+      references=(BLM,), data="length, length_estimated, cd, cs, dt, dt_shear, ratio, source",
+      thresholds=("analysis.explicit_ratio_warn",))
 def explicit_time_step(model, ctx):
     explicit = [(s, p) for s, p in model.procedures() if p.kind == "dynamic-explicit"]
     if not explicit:
