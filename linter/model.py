@@ -183,7 +183,7 @@ class Material:
     blocks: list[PropertyBlock] = field(default_factory=list)
     #: defined after the first analysis step (keyword decks), which the solver refuses
     after_step: bool = False
-    #: filled by ``linter.derive`` (e.g. {"elastic": [...rows of G, K, lambda, M...], "hyper": {...}})
+    #: filled by ``linter.derived`` (e.g. {"elastic": [...rows of G, K, lambda, M...], "hyper": {...}})
     derived: dict[str, Any] = field(default_factory=dict)
 
     def find(self, kind: str) -> list[PropertyBlock]:
@@ -435,7 +435,7 @@ class DeckModel:
     params: dict[str, Any] = field(default_factory=dict)
     #: loc of the first analysis step (keyword decks), or None
     first_step: Optional[Loc] = None
-    #: results of model-wide derivations (``linter.derive``), e.g. {"unit_system": {...}}
+    #: results of model-wide derivations (``linter.derived``), e.g. {"unit_system": {...}}
     derived: dict[str, Any] = field(default_factory=dict)
     #: format-specific extras a format's own rules may read (documented by each parser)
     extras: dict[str, Any] = field(default_factory=dict)
