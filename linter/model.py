@@ -105,7 +105,7 @@ BLOCK_LAYOUTS: dict[tuple[str, str], tuple[str, ...]] = {
     # hardening table: one row per point; temperature groups by Row.temperature
     ("plastic", "iso"): ("stress", "plastic_strain"),
     ("deformation_plasticity", "iso"): ("E", "nu", "sigma0", "n", "alpha"),
-    # hyperelastic forms: constants in the ccx order (formats.md 2.5); D's included
+    # hyperelastic forms: constants in the ccx order (CalculiX User's Manual *HYPERELASTIC); D's included
     ("hyperelastic", "neo-hooke"): ("C10", "D1"),
     ("hyperelastic", "mooney-rivlin"): ("C10", "C01", "D1"),
     ("hyperelastic", "polynomial-1"): ("C10", "C01", "D1"),

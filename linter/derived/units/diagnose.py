@@ -3,7 +3,7 @@ material, or which gravity value, does not fit it, and in which system it would 
 
 A material that the reference system does not explain (misfit above ``material_tol``) is, in order:
 0. explained once its density, which fits no class as written, is divided by g -> mismatch (a weight
-   density, the bulk-deck RHO without PARAM,WTMASS; physics.md 1.5, 5.4);
+   density, the bulk-deck RHO without PARAM,WTMASS; Nastran PARAM WTMASS definition);
 1. explained as a whole by another system -> mismatch ("material pasted in Pa");
 2. explained after reading one or more quantity groups (moduli, yield, density, conductivity,
    specific heat, expansion) in another system, the rest staying in the reference -> mismatch naming
