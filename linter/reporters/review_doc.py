@@ -117,6 +117,16 @@ def derived(value: Any) -> str:
     return f"{f:.6g}"
 
 
+#: names longer than this are cut in headings and tables (the material's section shows the whole name once)
+NAME_LIMIT = 64
+
+
+def short(value: Any, limit: int = NAME_LIMIT) -> str:
+    """A deck name for headings and table cells: visible, and cut with its length noted when very long."""
+    v = visible(value)
+    return v if len(v) <= limit else f"{v[:limit - 16]}... ({len(v)} characters)"
+
+
 def where(path: Any, line: Any) -> str:
     p = visible(path) if path else "(no file)"
     n = line_of(line)
@@ -324,7 +334,7 @@ def usage_section(fr, anchor: str) -> Section:
         rows = []
         for m in fr.materials or ():
             used = m.get("used_by") if isinstance(m, dict) else None
-            rows.append([visible(m.get("name")), ", ".join(f"{visible(k)} x {v}" for k, v in (used or {}).items())
+            rows.append([short(m.get("name")), ", ".join(f"{visible(k)} x {v}" for k, v in (used or {}).items())
                          or "no elements"])
         sec.children.append(Table(["Material", "Element types and counts"], rows))
         return sec
@@ -333,7 +343,7 @@ def usage_section(fr, anchor: str) -> Section:
     for u in usage:
         for s in u.get("sections") or ():
             counts = ", ".join(f"{visible(k)} x {v}" for k, v in (s.get("counts") or {}).items()) or "no elements"
-            row = [visible(u.get("material")), f"{visible(s.get('card'))} at {where(s.get('path'), s.get('line'))}",
+            row = [short(u.get("material")), f"{visible(s.get('card'))} at {where(s.get('path'), s.get('line'))}",
                    visible(s.get("elset")), visible(s.get("role")), counts]
             key = tuple(row)
             if key in seen:  # the same material in several layers of one section: one row, counted
@@ -345,7 +355,7 @@ def usage_section(fr, anchor: str) -> Section:
     if rows:
         sec.children.append(Table(["Material", "Section", "Element set", "Role", "Element types and counts"], rows))
     unused = (fr.details or {}).get("unused_materials") or []
-    sec.children.append(para("Materials no section uses: " + (", ".join(visible(n) for n in unused)
+    sec.children.append(para("Materials no section uses: " + (", ".join(short(n) for n in unused)
                                                               if unused else "none.")))
     return sec
 
@@ -367,7 +377,7 @@ def findings_section(findings, anchor: str, title: str, texts: dict) -> Section:
         for f in of_sev:
             by_mat["" if f.material is None else str(f.material)].append(f)
         for mat in sorted(by_mat, key=lambda k: (k == "", k)):
-            sec.children.append(para(("b", f"Material {visible(mat)}" if mat else "Not tied to one material")))
+            sec.children.append(para(("b", f"Material {short(mat)}" if mat else "Not tied to one material")))
             for f in by_mat[mat]:
                 rationale, remedy = texts.get(f.rule, ("", ""))
                 sec.children.append(P([("code", visible(f.rule)), text(f" at {where(f.path, f.line)}: "),

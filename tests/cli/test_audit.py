@@ -200,6 +200,10 @@ def test_hostile_names_are_escaped_and_figures_carry_no_deck_string(tmp_path):
     assert "<script" not in doc.lower()
     assert "&lt;script&gt;alert(1)&lt;/script&gt;" in doc
     assert "\u202e" not in doc and "\\u202e" in doc
+    # a very long name is cut in headings and tables (with its length), and shown whole once
+    assert f"... ({len(HOSTILE) + 5} characters)</h3>" in doc                # the RTL mark shows as \u202e
+    assert "<code>&lt;script&gt;alert(1)" in doc
+    assert not re.search(r"<(h[1-4]|td|strong)[^>]*>[^<]*X{300}", doc)
     assert re.search(r"\son[a-z]+=", doc) is None          # no event handler attribute anywhere
     assert re.search(r"(src|href)=\"(https?:|//|data:text)", doc) is None   # nothing loaded from outside
     for svg in re.findall(r"<svg.*?</svg>", doc, re.S):
