@@ -277,8 +277,6 @@ def locking_materials(fr) -> set:
 def material_section(m: dict, fr, anchor: str, units: Units, figures: bool) -> Section:
     name = m.get("name")
     sec = Section(anchor, [H(3, f"Material {short(name)}", anchor)], cls="material")
-    if short(name) != visible(name):
-        sec.children.append(para("Full name: ", ("code", visible(name))))
     used = m.get("used_by") or {}
     use_text = ", ".join(f"{visible(k)} x {v}" for k, v in used.items()) if used else "no elements (unused)"
     mus = (m.get("derived") or {}).get("unit_system") or {}
@@ -286,7 +284,8 @@ def material_section(m: dict, fr, anchor: str, units: Units, figures: bool) -> S
     if mus.get("name") and mus.get("name") != units.system:
         own = (f" Taken alone, its values fit {visible(mus['name'])} best (confidence "
                f"{derived(mus.get('confidence'))}), not the deck's {visible(units.system or 'undetermined')} system.")
-    sec.children.append(para(f"Defined at {where(m.get('path'), m.get('line'))}; used by {use_text}." + own))
+    full = [("", "Full name: "), ("code", visible(name)), ("", ". ")] if short(name) != visible(name) else []
+    sec.children.append(para(*full, f"Defined at {where(m.get('path'), m.get('line'))}; used by {use_text}." + own))
     if not m.get("blocks"):
         sec.children.append(para("No property was read for this material."))
     for b in m.get("blocks") or ():
