@@ -276,7 +276,7 @@ def test_details_only_for_the_audit():
 
 def test_every_rule_has_a_remedy():
     from linter import registry
-    from linter.reporters.review_doc import rule_texts
+    from linter.reporters.review_findings import rule_texts
 
     texts = rule_texts()
     missing = [r.id for r in registry.all_rules() if not texts.get(r.id, ("", ""))[1]]
@@ -304,3 +304,19 @@ def test_corpus_audit_renders(corpus_dir, fmt):
     for fr in result.files:
         assert not any(f.rule.startswith("internal/") for f in fr.findings), fr.path
         assert fr.path in doc or fr.path.replace("&", "&amp;") in doc
+
+
+def test_json_with_the_audit_facts_fits_the_schema(samples_result):
+    import json
+    import os
+
+    jsonschema = pytest.importorskip("jsonschema")
+    schema_path = os.path.join(os.path.dirname(get("json").__code__.co_filename), "..", "data", "report.schema.json")
+    with open(schema_path, encoding="utf-8") as fh:
+        schema = json.load(fh)
+    buf = io.StringIO()
+    get("json")(samples_result, buf, None)
+    doc = json.loads(buf.getvalue())
+    jsonschema.validate(doc, schema)
+    assert all(f["details"]["files"][0]["sha256"] for f in doc["files"])
+    assert doc["files"][0]["materials"][0]["blocks"][0]["rows"]
