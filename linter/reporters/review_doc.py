@@ -151,7 +151,7 @@ def suppression_of(f) -> Optional[dict]:
         def get(k, default=None):
             return getattr(sup, k, default)
     return {"reason": get("reason") or get("justification") or "", "path": get("path"),
-            "line": get("line"), "rules": get("rules") or get("ids") or ()}
+            "line": get("line"), "rules": get("rules") or get("ids") or (), "scope": get("scope") or ""}
 
 
 def split_suppressed(findings) -> tuple[list, list]:
@@ -170,6 +170,9 @@ def verdict(fr) -> str:
     parts = [f"{c['error']} error(s)", f"{c['warning']} warning(s)", f"{c['note']} note(s)"]
     if silenced:
         parts.append(f"{len(silenced)} suppressed")
+    in_baseline = sum(1 for f in active if getattr(f, "baseline", False))
+    if in_baseline:
+        parts.append(f"{in_baseline} in the baseline (listed, not counted)")
     state = "incomplete: some input could not be checked" if fr.incomplete else "complete"
     return ", ".join(parts) + f"; check {state}"
 

@@ -56,7 +56,8 @@ def findings_section(findings, anchor: str, title: str, texts: dict) -> Section:
             sec.children.append(para(("b", f"Material {short(mat)}" if mat else "Not tied to one material")))
             for f in by_mat[mat]:
                 rationale, remedy = texts.get(f.rule, ("", ""))
-                sec.children.append(P([("code", visible(f.rule)), text(f" at {where(f.path, f.line)}: "),
+                tag = " (in the baseline)" if getattr(f, "baseline", False) else ""
+                sec.children.append(P([("code", visible(f.rule)), text(f" at {where(f.path, f.line)}{tag}: "),
                                        text(f.message)], cls=f"finding {sev or 'other'}"))
                 extra = []
                 if rationale:
@@ -72,11 +73,14 @@ def findings_section(findings, anchor: str, title: str, texts: dict) -> Section:
         rows = []
         for f in silenced:
             s = suppression_of(f) or {}
-            rows.append([visible(f.severity), visible(f.rule), where(f.path, f.line), visible(f.material or ""),
+            scope = s.get("scope")
+            scope = " ".join(visible(x) for x in scope) if isinstance(scope, (list, tuple)) else visible(scope)
+            at = where(s.get("path"), s.get("line")) if s.get("path") else ""
+            rows.append([visible(f.severity), visible(f.rule), where(f.path, f.line), short(f.material or ""),
                          visible(f.message), visible(s.get("reason") or "(no reason given)"),
-                         where(s.get("path"), s.get("line")) if s.get("path") else ""])
+                         f"{at} ({scope})" if scope and at else at or scope])
         sec.children.append(Table(["Severity", "Rule", "At", "Material", "Finding", "Reason given",
-                                   "Suppression at"], rows, cls="suppressed"))
+                                   "Accepted by the comment at"], rows, cls="suppressed"))
     return sec
 
 

@@ -320,3 +320,48 @@ def test_json_with_the_audit_facts_fits_the_schema(samples_result):
     jsonschema.validate(doc, schema)
     assert all(f["details"]["files"][0]["sha256"] for f in doc["files"])
     assert doc["files"][0]["materials"][0]["blocks"][0]["rows"]
+
+
+SUPPRESSED_DECK = """*NODE
+1,0,0,0
+2,1,0,0
+3,1,1,0
+4,0,1,0
+5,0,0,1
+6,1,0,1
+7,1,1,1
+8,0,1,1
+*ELEMENT, TYPE=C3D8I, ELSET=E1
+1,1,2,3,4,5,6,7,8
+** deckwarden accept elastic/poisson-negative because auxetic foam, test report R-17
+*MATERIAL, NAME=FOAM
+*ELASTIC
+35.0, -0.2
+*DENSITY
+5e-11
+*SOLID SECTION, ELSET=E1, MATERIAL=FOAM
+*STEP
+*STATIC
+*END STEP
+"""
+
+
+def test_a_comment_in_the_deck_shows_as_a_suppressed_finding(tmp_path, capsys):
+    from linter.cli import main
+
+    deck = tmp_path / "foam.inp"
+    deck.write_text(SUPPRESSED_DECK, encoding="utf-8")
+    out = tmp_path / "r.html"
+    main(["audit", str(deck), "-o", str(out)])
+    doc = out.read_text(encoding="utf-8")
+    root = tree_of(doc)
+    sup = next(e for e in root.iter() if _local(e.tag) == "table" and e.get("class") == "suppressed")
+    cells = " ".join(sup.itertext())
+    assert "elastic/poisson-negative" in cells and "auxetic foam, test report R-17" in cells
+    assert f"{deck}:12 (next)" in cells
+    assert "1 suppressed" in doc
+    # a reviewer may ignore every comment: the finding is then an ordinary note
+    main(["audit", str(deck), "--no-inline-suppressions", "-o", str(out)])
+    doc = out.read_text(encoding="utf-8")
+    assert "Suppressed findings (0)" in doc and "0 error(s), 0 warning(s), 1 note(s)" in doc
+    assert "configuration: inline_suppressions" in doc and "false" in doc
