@@ -46,6 +46,8 @@ def build_parser() -> argparse.ArgumentParser:
     _config_options(c)
     c.add_argument("--materials", metavar="FILE",
                    help="material file (deckwarden: 1) for the mesh files given (Gmsh, VTK, XDMF, MED ...)")
+    c.add_argument("--no-inline-suppressions", action="store_true",
+                   help="ignore every suppression comment in the decks (to see what a supplier silenced)")
     c.add_argument("--no-color", action="store_true", help="no colour in the text report")
 
     a = sub.add_parser("audit", help="the reviewer's audit of decks: one self-contained HTML file",
@@ -72,6 +74,8 @@ def build_parser() -> argparse.ArgumentParser:
     e = sub.add_parser("explain", help="what a rule checks and why",
                        description="Show a rule's title, default severity, rationale, references and data.")
     e.add_argument("rule", metavar="RULE", help="a rule id (family/name) or a family")
+    e.add_argument("--config", metavar="FILE",
+                   help="configuration whose threshold values to show (default: deckwarden.yaml found upwards)")
     return p
 
 
@@ -263,6 +267,8 @@ def cmd_check(args) -> int:
     from .findings import exit_code
 
     cfg = _config(args)
+    if args.no_inline_suppressions:
+        cfg.inline_suppressions = False
     if args.output and os.path.realpath(args.output) in {os.path.realpath(p) for p in args.paths}:
         raise UsageError(f"--output {args.output}: is one of the paths to check; deckwarden never writes its input")
     fmt = _report_format(args)
@@ -371,6 +377,23 @@ def cmd_explain(args) -> int:
     out.append(para("why", r.rationale or "(no rationale given)"))
     out.append("references:\n" + ("".join(f"  - {ref}\n" for ref in r.references) or "  (none)\n"))
     out.append(para("finding data", r.data or "(nothing beyond the message)"))
+    if r.thresholds:
+        from .config import Config, ConfigError
+
+        try:
+            cfg = Config.load(args.config)
+        except ConfigError as exc:
+            raise UsageError(str(exc)) from None
+        where = cfg.source or "the defaults, linter/data/thresholds.yaml"
+        lines = []
+        for key in r.thresholds:
+            try:
+                value = cfg.threshold(key)
+            except KeyError:
+                value = "(not set)"
+            lines.append(f"  {key} = {'null' if value is None else value}\n")
+        out.append(f"thresholds (values from {where}; override under 'thresholds:' in a configuration):\n"
+                   + "".join(lines))
     sys.stdout.write("\n".join(out))
     return 0
 

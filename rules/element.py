@@ -8,13 +8,13 @@ from __future__ import annotations
 
 import math
 
+from linter.findings import SEVERITY_RANK
 from linter.physics.elastic import k_over_g
 from linter.registry import rule
 from linter.usage import element_types_of
 
 from ._text import listing, num, plural
 
-SEV_RANK = {"note": 1, "warning": 2, "error": 3}
 
 
 def locking_ratio(ctx) -> float:
@@ -75,7 +75,9 @@ def _stiffness_cause(mat, ctx):
                   "physics.md 6.1-6.2 (locking of low-order displacement elements; cures)",
                   "MYSTRAN user's manual PSOLID: ISOP=REDUCED is reduced shear integration (formats.md 5.5)"),
       data="cause: isotropic | hyperelastic | plastic; nu, K_over_G or K0_over_mu0; types: {type: {count, grade}}; "
-           "alternatives: {type: [non-locking types of the same family]}")
+           "alternatives: {type: [non-locking types of the same family]}",
+      thresholds=("element.locking_ratio", "elastic.near_incompressible_nu", "element.locking_error_nu",
+                  "element.locking_error_ratio"))
 def volumetric_locking(model, ctx):
     cat = ctx.catalogue
     for mat in model.all_materials():
@@ -99,7 +101,7 @@ def volumetric_locking(model, ctx):
             if sev is None:
                 continue
             affected[etype] = (count, tech, sev)
-            if severity is None or SEV_RANK[sev] > SEV_RANK[severity]:
+            if severity is None or SEVERITY_RANK[sev] > SEVERITY_RANK[severity]:
                 severity = sev
         if not affected:
             continue
