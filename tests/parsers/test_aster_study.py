@@ -257,3 +257,18 @@ def test_sample_study_reports_the_locking_pad():
     assert [(f.rule, f.material, f.line) for f in rep.findings] == [("element/volumetric-locking", "EPDM", 21)]
     assert rep.summary["element_types"] == {"3D/HEXA8": 24}          # 16 cast + 8 pad cells; base faces left out
     assert sorted(m["name"] for m in rep.materials) == ["EPDM", "IRON"]
+
+
+@pytest.mark.parametrize("behaviour, found", [("", True), (", ECRO_LINE=_F(D_SIGM_EPSI=2000., SY=355.)", False)])
+def test_plasticity_relation_needs_hardening(tmp_path, behaviour, found):
+    # STAT_NON_LINE COMPORTEMENT RELATION='VMIS_ISOT_LINE' reads ECRO_LINE (U4.51.11, from memory)
+    study(tmp_path, HEAD + f"""\
+S = DEFI_MATERIAU(ELAS=_F(E=210000., NU=0.3){behaviour})
+CM = AFFE_MATERIAU(MAILLAGE=MA, AFFE=_F(TOUT='OUI', MATER=S))
+R = STAT_NON_LINE(MODELE=MO, CHAM_MATER=CM, COMPORTEMENT=_F(RELATION='VMIS_ISOT_LINE', GROUP_MA='BLOC'))
+""")
+    res = check_paths([str(tmp_path / "s.export")], Config())
+    hits = [f for f in res.files[0].findings if f.rule == "analysis/missing-hardening"]
+    assert bool(hits) is found
+    if found:
+        assert hits[0].material == "S" and "VMIS_ISOT_LINE" in hits[0].message
