@@ -45,6 +45,7 @@ def parse(path: str, options) -> DeckModel:
     # the element catalogue of this route is meshio's cell types, whatever --dialect says
     model = DeckModel(path=display, format=FORMAT, dialect=DEFAULT_DIALECT)
     model.files.append(yaml_display)
+    model.extras["commented_files"] = [yaml_display]   # the mesh is data: no suppression comments in it
     src = read_deck_bytes(yaml_path, MAX_YAML_BYTES)   # SourceError: too large, binary, unreadable
     doc = Doc(yaml_display, model)
     text = src.data.decode("utf-8" if src.encoding != "latin-1" else "latin-1")
@@ -70,7 +71,7 @@ def parse(path: str, options) -> DeckModel:
         units = doc.text(got["units"][1], "units")
         if units:
             model.extras["declared_units"] = units
-            model.extras["declared_units_line"] = doc.loc(got["units"][1]).line
+            model.extras["declared_units_loc"] = doc.loc(got["units"][1])
     from .materials import read_materials
     from .regions import read_regions, section_of
     from .steps import read_analysis
@@ -119,6 +120,7 @@ def _mesh(doc, got: dict, given: Optional[str], yaml_path: str, options):
     if given is not None:
         loc, written, display = Loc(given, 1), given, given
         resolved = given
+        model.includes.append(Include(written, resolved, loc, "ok"))
     elif "mesh" in got:
         node = got["mesh"][1]
         loc = doc.loc(node)
