@@ -239,3 +239,22 @@ def test_nonfinite_parameter_is_an_issue(tmp_path):
     mat = '<material id="1" name="Rubber" type="neo-Hookean"><E>inf</E><v>0.3</v></material>'
     m = parse_text(tmp_path, feb(mat))
     assert [i.code for i in m.issues] == ["value-not-finite"]
+
+
+def test_sample_model_is_found_and_clean():
+    from pathlib import Path
+
+    from febio_decks import check_path
+    from linter.config import Config
+    from linter.discovery import discover
+    from linter.findings import RunResult
+
+    samples = Path(__file__).resolve().parents[2] / "sample_decks"
+    found = discover([str(samples)], RunResult(), Config())
+    feb_files = [(Path(p).name, fmt) for p, fmt in found if p.endswith(".feb")]
+    assert feb_files == [("pv40_coupling_insert.feb", "febio")]
+    report = check_path(samples / "pv40_coupling_insert.feb")
+    assert report.findings == []
+    assert report.summary["elements"] == 64 and report.summary["materials"] == 3
+    # the uncoupled insert on the solver's three-field hex8, the hubs as rigid bodies
+    assert report.summary["element_types"] == {"HEX8/RIGID": 32, "HEX8/THREE-FIELD": 32}
