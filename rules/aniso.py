@@ -99,7 +99,8 @@ def _row_path(mat, entry) -> str:
                 "nu23 nu32 - nu31 nu13 - 2 nu21 nu32 nu13 > 0. The solver does not check it; the model "
                 "may run and give meaningless results or fail to converge.",
       references=(LEMPRIERE, JONES, CCX_EL, NAS),
-      data="rows: [{line, temperature, eig_min, eig_max, determinant?}]; form; part")
+      data="rows: [{line, temperature, eig_min, eig_max, determinant?}]; form; part",
+      thresholds=("aniso.eigen_rel_tol",))
 def not_positive_definite(model, ctx):
     for mat, entry in _entries(model):
         plain, after_bounds = [], []
@@ -131,7 +132,8 @@ def not_positive_definite(model, ctx):
                 "of magnitude (a typo in one constant, mixed units, a 'rigid' direction faked with a huge "
                 "modulus) makes the stiffness matrix ill-conditioned and the solution sensitive to round-off.",
       references=("physics.md 2.3 (lambda_min/lambda_max < 1e-8 suggested)",),
-      data="rows: [{line, temperature, condition}]; limit")
+      data="rows: [{line, temperature, condition}]; limit",
+      thresholds=("aniso.condition_limit", "aniso.eigen_rel_tol"))
 def ill_conditioned(model, ctx):
     limit = float(ctx.threshold("aniso.condition_limit"))
     for mat, entry in _entries(model):
@@ -193,7 +195,8 @@ def missing_orientation(model, ctx):
                 "to cold in every direction). An orthotropic value <= 0 or off-diagonal terms too large "
                 "for the diagonal give a tensor that is not.",
       references=("CalculiX User's Manual *CONDUCTIVITY; Nastran MAT5 (formats.md 2.3, 5.4)",),
-      data="rows: [{line, temperature, eig_min, eig_max}]")
+      data="rows: [{line, temperature, eig_min, eig_max}]",
+      thresholds=("aniso.eigen_rel_tol",))
 def conductivity_not_pd(model, ctx):
     for mat in list(model.materials.values()) + list(model.duplicate_materials):
         for entry in mat.derived.get("conductivity", ()):
