@@ -70,6 +70,13 @@ def check_file(path: str, fmt: str, config: Config, policy: IncludePolicy, detai
     found = derive_all(model, config)
     found += run_rules(model, config)
     report.findings = finalize(found, config) if found else []
+    if getattr(config, "inline_suppressions", True):
+        from .suppressions import apply
+
+        notes = [f for f in apply(model, report.findings, getattr(mod, "COMMENT_PREFIXES", ()))
+                 if config.rule_enabled(f.rule)]
+        if notes:
+            report.findings = finalize(report.findings + notes, config)
     report.dialect = model.dialect
     report.materials = material_summary(model)
     report.unchecked = [{"what": u.what, "path": u.loc.path, "line": u.loc.line, "reason": u.reason,
