@@ -7,13 +7,12 @@ from __future__ import annotations
 
 import os
 import time
-import traceback
 from typing import Any, Optional
 
 from . import parsers, registry
 from .config import Config
 from .discovery import discover, general_finding, make_policy
-from .findings import FileReport, Finding, RunResult, jsonable
+from .findings import FileReport, Finding, RunResult, jsonable, raised_at
 from .parsers.includes import IncludePolicy
 from .parsers.sources import SourceError
 
@@ -58,8 +57,7 @@ def check_file(path: str, fmt: str, config: Config, policy: IncludePolicy, detai
         report.seconds = time.perf_counter() - t0
         return report
     except Exception as exc:
-        tb = traceback.extract_tb(exc.__traceback__)
-        where = f"{tb[-1].filename.rsplit('/', 1)[-1]}:{tb[-1].lineno}" if tb else ""
+        where = raised_at(exc)
         report.findings = [Finding(
             rule="internal/parser-failed", severity="error",
             message=f"the {fmt} parser failed on this file ({type(exc).__name__}: {exc}); nothing in it was checked",

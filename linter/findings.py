@@ -136,6 +136,15 @@ def jsonable(value: Any) -> Any:
     return str(value)
 
 
+def raised_at(exc: BaseException) -> str:
+    """``file.py:line`` of the innermost frame of ``exc``'s traceback ('' without one): where an internal
+    failure happened, for the ``where`` field of ``internal/*`` findings."""
+    import traceback
+
+    tb = traceback.extract_tb(exc.__traceback__)
+    return f"{tb[-1].filename.rsplit('/', 1)[-1]}:{tb[-1].lineno}" if tb else ""
+
+
 def exit_code(result: RunResult, fail_on: str) -> int:
     if result.incomplete:
         return 2
