@@ -13,8 +13,8 @@ from linter.model import DeckModel, Material, norm_key
 from linter.registry import rule
 from linter.usage import material_usage, resolve_set
 
-CCX_MAT = "CalculiX User's Manual, Materials: data required by the analysis (formats.md 2.1)"
-NAS_SOL = "Nastran solution sequences and the material data each needs (formats.md 5.9)"
+CCX_MAT = "CalculiX User's Manual, Materials: data required by the analysis"
+NAS_SOL = "Nastran solution sequences and the material data each needs"
 MECHANICAL = ("elastic", "hyperelastic", "hyperfoam", "deformation_plasticity", "user")
 THERMAL_ROLES = ("thermal",)
 NON_STRUCTURAL = ("heat", "fluid", "network")
@@ -32,6 +32,11 @@ def step_materials(model: DeckModel, proc) -> list[Material]:
     mats = used_materials(model)
     scope = proc.options.get("materials") if proc is not None else None
     return mats if scope is None else [m for m in mats if m.key in set(scope)]
+
+
+def massless_by_choice(model: DeckModel, mat: Material) -> bool:
+    """code_aster writes RHO = 0 explicitly for a part meant to carry no mass (ELAS accepts it): not missing."""
+    return model.format == "aster" and any(b.rows for b in mat.find("density"))
 
 
 def volumetric_heat_capacity(mat: Material) -> bool:
@@ -149,7 +154,7 @@ def missing_density(model, ctx):
     for need in ("mass", "transient_thermal"):
         for step, proc in _steps_needing(model, need):
             for mat in step_materials(model, proc):
-                if mat.key in reported or has_positive(mat, "density", "rho"):
+                if mat.key in reported or has_positive(mat, "density", "rho") or massless_by_choice(model, mat):
                     continue
                 if need == "transient_thermal" and volumetric_heat_capacity(mat):
                     continue

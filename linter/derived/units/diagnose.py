@@ -3,7 +3,7 @@ material, or which gravity value, does not fit it, and in which system it would 
 
 A material that the reference system does not explain (misfit above ``material_tol``) is, in order:
 0. explained once its density, which fits no class as written, is divided by g -> mismatch (a weight
-   density, the bulk-deck RHO without PARAM,WTMASS; physics.md 1.5, 5.4);
+   density, the bulk-deck RHO without PARAM,WTMASS; Nastran PARAM WTMASS definition);
 1. explained as a whole by another system -> mismatch ("material pasted in Pa");
 2. explained after reading one or more quantity groups (moduli, yield, density, conductivity,
    specific heat, expansion) in another system, the rest staying in the reference -> mismatch naming
@@ -23,7 +23,8 @@ import numpy as np
 from ...model import Loc
 from ...physics import units as U
 from .evidence import GROUPS, QUANTITY_DIMENSION, WORDS
-from .infer import DERIVED, Inference, MaterialScore, _slip_bad, _subsets, class_misfit, equivalent, si_values
+from .infer import (DERIVED, Inference, MaterialScore, class_misfit, derived_quantities, equivalent, group_subsets,
+                    si_values, slip_bad)
 
 SI_UNIT = {"E": "Pa", "K": "Pa", "yield": "Pa", "rho": "kg/m^3", "k": "W/(m K)", "c": "J/(kg K)",
            "alpha": "1/K", "c0": "m/s", "cd": "m/s", "a": "m^2/s", "rhoc": "J/(m^3 K)"}
@@ -97,9 +98,9 @@ def _split(inf: Inference, ms: MaterialScore, loose_moduli: bool = False) -> Opt
     groups = [g for g in GROUPS if any(q in ev.values and QUANTITY_DIMENSION[q] for q in GROUPS[g])]
     # only a quantity that fits no class at all when read in the reference system can be the slipped one
     si = si_values(ev, data)
-    bad = {q: bool(v[ref]) for q, v in _slip_bad(ev, data).items()}
+    bad = {q: bool(v[ref]) for q, v in slip_bad(ev, data).items()}
     best = None
-    for subset in _subsets(groups):
+    for subset in group_subsets(groups):
         if len(subset) == len(groups):
             continue
         qs = [q for g in subset for q in GROUPS[g] if q in ev.values and QUANTITY_DIMENSION[q]]
@@ -164,9 +165,7 @@ def _implausible(inf: Inference, ms: MaterialScore, c: int, ref: int) -> list[Pr
     data, ev = inf.data, ms.ev
     qtol = float(data.scoring["quantity_tol"])
     si = si_values(ev, data)
-    from .infer import _derived
-
-    si.update(_derived(si))
+    si.update(derived_quantities(si))
     fit = np.all([~np.isnan(data.lo[q]) for q in ev.values], axis=0)
     if fit.any() and not fit[c]:   # judge against a class that has a band for every quantity given
         c = int(np.flatnonzero(fit)[np.argmin(ms.per_class[fit, ref])])
@@ -245,7 +244,7 @@ def diagnose(inf: Inference) -> list[Problem]:
 def _weight_density(inf: Inference, ms: MaterialScore) -> Optional[Problem]:
     """The material fits the reference once its density is divided by g: RHO is a weight density."""
     data, ref, ev = inf.data, inf.ref, ms.ev
-    if "rho" not in ev.values or not _slip_bad(ev, data)["rho"][ref]:
+    if "rho" not in ev.values or not slip_bad(ev, data)["rho"][ref]:
         return None      # only a density that fits no class as written
     g = float(data.model["gravity"]) / data.systems[ref].scale("acceleration")
     trial = replace(ev, values={**ev.values, "rho": ev.values["rho"] / g})

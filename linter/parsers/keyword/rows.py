@@ -1,7 +1,9 @@
 """Data lines of a keyword block read as CalculiX reads them, vectorised: one answer for every writing style.
 
 CalculiX removes every blank and tab of a line before it splits it at commas, skips blank and
-``**`` comment lines, and a trailing comma adds no field (formats.md 1.1, 1.2). An ``*ELEMENT`` line
+``**`` comment lines, and a trailing comma adds no field (CalculiX User's Manual, input deck
+format; ccx source splitline.f).
+An ``*ELEMENT`` line
 holds the element number and up to ``nodes`` node numbers; when it holds fewer, the next lines give
 the rest, each line read only up to the nodes still missing (CalculiX ``elements.f``, the loop after
 "element definition incomplete"). So ``1,2,...,16,`` + ``17,...,21`` (C3D20), ``1,...,10`` + ``11``
