@@ -3,7 +3,8 @@
 A fingerprint hashes, in this order: the rule id; the file's path relative to a root (the git work
 tree that holds the file, else the baseline file's folder when it holds the file, else the folder given
 on the command line); the material (normalised like the solvers do); the finding's key data (its text
-values only: no floating-point number, no line number); and the text of the offending line with its
+text values only, with paths made relative and line references and written-out floating-point numbers
+replaced: no floating-point number, no line number); and the text of the offending line with its
 whitespace collapsed. Findings equal in all of these are told apart by an occurrence index in line order.
 
 The same string goes into the JSON report (``fingerprint``), the baseline file and SARIF
@@ -14,6 +15,7 @@ from __future__ import annotations
 import hashlib
 import json
 import os
+import re
 from typing import Iterable, Optional
 
 VERSION = 1
@@ -63,48 +65,63 @@ def relative(path: Optional[str], roots: list[str]) -> str:
 
 
 def line_texts(path: str, wanted: set[int]) -> dict[int, str]:
-    """The text of the wanted (1-based) lines of a file, read in blocks up to the last one needed."""
+    """The text of the wanted (1-based) lines of a file, read in blocks up to the last one needed.
+
+    Blocks without a wanted line are only counted (``bytes.count``), never split into lines.
+    """
     out: dict[int, str] = {}
     if not wanted:
         return out
-    last = max(wanted)
-    n, rest = 0, b""
+    todo = sorted(wanted)
+    last = todo[-1]
+    n, rest = 0, b""            # n: complete lines before ``rest``
     try:
         with open(path, "rb") as fh:
             while n < last:
                 chunk = fh.read(BLOCK)
-                data = rest + chunk
-                if not chunk:
-                    lines = data.split(b"\n")
-                    rest = b""
-                else:
-                    lines = data.split(b"\n")
-                    rest = lines.pop()
-                for raw in lines:
-                    n += 1
-                    if n in wanted:
-                        out[n] = raw.decode("utf-8", "replace")
-                    if n >= last:
-                        break
-                if not chunk:
+                data = rest + chunk if rest else chunk
+                if not chunk:                      # the last line has no line end
+                    if data and n + 1 in wanted:
+                        out[n + 1] = data.decode("utf-8", "replace")
                     break
+                cut = data.rfind(b"\n") + 1
+                count = data.count(b"\n", 0, cut)
+                if any(n < w <= n + count for w in todo):
+                    for i, raw in enumerate(data[:cut].split(b"\n")[:count], start=n + 1):
+                        if i in wanted:
+                            out[i] = raw.decode("utf-8", "replace")
+                n += count
+                rest = data[cut:]
     except OSError:
         pass
     return out
 
 
-def _key_data(data) -> dict:
+_LINE_REF = re.compile(r"\blines? \d+(?:\s*(?:-|to|and)\s*\d+)?", re.I)
+_FLOAT = re.compile(r"[-+]?(?:\d+\.\d*|\.\d+|\d+(?=[eE]))(?:[eE][-+]?\d+)?")
+
+
+def _key_text(value: str, roots: list[str]) -> str:
+    """A text value as it enters the key: a path relative to the root, line references and
+    floating-point numbers written out replaced by ``#`` (they move or are rounded)."""
+    if os.path.isabs(value):
+        return relative(value, roots)
+    return _FLOAT.sub("#", _LINE_REF.sub("line #", value))
+
+
+def _key_data(data, roots: Optional[list[str]] = None) -> dict:
     """The text values of a finding's data (no numbers: they may be floats or line numbers)."""
     if not isinstance(data, dict):
         return {}
+    roots = roots or []
     out = {}
     for k, v in data.items():
         if str(k).startswith("_") or "path" in str(k):
             continue
         if isinstance(v, str):
-            out[str(k)] = v
+            out[str(k)] = _key_text(v, roots)
         elif isinstance(v, (list, tuple)) and v and all(isinstance(x, str) for x in v):
-            out[str(k)] = list(v)
+            out[str(k)] = [_key_text(x, roots) for x in v]
     return out
 
 
@@ -128,7 +145,7 @@ def assign(findings: list, roots: list[str]) -> dict[str, str]:
         text = _norm(texts.get(f.path, {}).get(int(f.line), "")) if f.path and f.line else ""
         parts = [f"v{VERSION}", f.rule, relative(f.path, roots),
                  norm_key(str(f.material)) if f.material is not None else "",
-                 json.dumps(_key_data(f.data), sort_keys=True, ensure_ascii=True),
+                 json.dumps(_key_data(f.data, roots), sort_keys=True, ensure_ascii=True),
                  hashlib.sha256(text.encode("utf-8", "replace")).hexdigest()]
         base = hashlib.sha256("\0".join(parts).encode("utf-8", "replace")).hexdigest()[:24]
         index = seen.get(base, 0)

@@ -97,6 +97,22 @@ def test_identical_findings_get_an_occurrence_index(tmp_path):
     assert fs[0].fingerprint.rsplit(":", 1) == [fs[1].fingerprint.rsplit(":", 1)[0], "0"]
     assert fs[1].fingerprint.endswith(":1")
     assert _key_data({"kind": "x", "nu": 0.7, "line": 3, "rows": [{"T": 20.0}]}) == {"kind": "x"}
+    # text data: paths relative to the root, line references and written-out floats replaced
+    assert _key_data({"step": "MODES (line 77)", "include": str(tmp_path / "m" / "a.inp"),
+                      "decks": [str(tmp_path / "b.inp")], "note": "E 2.1e5 and nu 0.3"},
+                     [str(tmp_path)]) == {"step": "MODES (line #)", "include": "m/a.inp", "decks": ["b.inp"],
+                                          "note": "E # and nu #"}
+
+
+def test_line_texts_reads_only_what_it_needs(tmp_path, monkeypatch):
+    import linter.fingerprint as fp
+
+    monkeypatch.setattr(fp, "BLOCK", 7)                    # many blocks, lines split across them
+    lines = [f"line {i} " + "x" * (i % 13) for i in range(1, 120)]
+    p = tmp_path / "f.inp"
+    p.write_text("\n".join(lines))                         # no line end after the last line
+    got = fp.line_texts(str(p), {1, 2, 60, 119, 500})
+    assert got == {1: lines[0], 2: lines[1], 60: lines[59], 119: lines[118]}
 
 
 def test_sarif_for_code_scanning(repo, capsys, sarif_validator):
