@@ -7,9 +7,9 @@
 Each mutant changes one point of one module (a comparison operator, a number constant, an arithmetic operator,
 and/or, a `not`). The mutated module is compiled in memory and served by an import hook placed first on
 ``sys.meta_path`` inside a forked child that runs pytest on the module's test files (``targets.yaml``) with
-``-x -q -p no:cacheprovider``; the working tree is never written. A mutant is *killed* when that run fails (a failing
-test or an import/collection error), *survives* when it passes, and is a *timeout* when it runs longer than
-``--timeout`` (default: 5 x the unmutated run, at least 20 s). Equivalent mutants (no behaviour can tell them apart)
+``-x -q -p no:cacheprovider``; the working tree is never written (``--jobs 2``: two children at a time).
+A mutant is *killed* when that run fails (a failing test or an import/collection error), *survives* when it
+passes, and is a *timeout* when it runs longer than ``--timeout`` (default: 5 x the unmutated run, at least 20 s). Equivalent mutants (no behaviour can tell them apart)
 are listed with the reason in ``equivalent.yaml`` and excluded from the score.
 
 Where ``os.fork`` is missing the children are started as subprocesses instead (slower, same result).
@@ -175,33 +175,58 @@ def _child_run(name: str, path: str, code, tests: list[str]) -> int:
     return int(pytest.main([*PYTEST_ARGS, *tests]))
 
 
-def run_once(name: str, path: str, tree, tests: list[str], timeout: float) -> str:
-    """'killed' | 'survived' | 'timeout' for one mutant (tree None: the unmutated module)."""
+def _start(name: str, path: str, tree, tests: list[str]) -> int:
+    """Fork a child that runs the tests against the mutant (tree None: the unmutated module); its pid."""
     code = compile(tree, str(REPO / path), "exec") if tree is not None else None
-    if hasattr(os, "fork"):
-        pid = os.fork()
-        if pid == 0:  # child
-            rc = 3
-            try:
-                rc = _child_run(name, str(REPO / path), code, tests)
-            finally:
-                os._exit(rc)
-        deadline = time.monotonic() + timeout
-        while True:
-            done, status = os.waitpid(pid, os.WNOHANG)
-            if done:
-                rc = os.waitstatus_to_exitcode(status)
-                break
-            if time.monotonic() > deadline:
-                os.kill(pid, signal.SIGKILL)
-                os.waitpid(pid, 0)
-                return "timeout"
+    pid = os.fork()
+    if pid == 0:  # child
+        rc = 3
+        try:
+            rc = _child_run(name, str(REPO / path), code, tests)
+        finally:
+            os._exit(rc)
+    return pid
+
+
+def _poll(pid: int, deadline: float):
+    """None while running; else 'killed' | 'survived' | 'timeout' (a late child is killed)."""
+    done, status = os.waitpid(pid, os.WNOHANG)
+    if done:
+        return "survived" if os.waitstatus_to_exitcode(status) == 0 else "killed"
+    if time.monotonic() > deadline:
+        os.kill(pid, signal.SIGKILL)
+        os.waitpid(pid, 0)
+        return "timeout"
+    return None
+
+
+def run_many(name: str, path: str, trees: list, tests: list[str], timeout: float, jobs: int = 1):
+    """Outcomes of the mutants ``trees`` (in order), at most ``jobs`` children at a time."""
+    if not hasattr(os, "fork"):
+        out = []
+        for tree in trees:
+            rc = _subprocess_run(name, path, tree, tests, timeout)
+            out.append("timeout" if rc is None else "survived" if rc == 0 else "killed")
+        return out
+    out = [None] * len(trees)
+    running: dict[int, tuple[int, float]] = {}
+    todo = list(range(len(trees)))
+    try:
+        while todo or running:
+            while todo and len(running) < max(1, jobs):
+                k = todo.pop(0)
+                running[_start(name, path, trees[k], tests)] = (k, time.monotonic() + timeout)
+            for pid, (k, deadline) in list(running.items()):
+                res = _poll(pid, deadline)
+                if res is not None:
+                    out[k] = res
+                    del running[pid]
             time.sleep(0.02)
-    else:
-        rc = _subprocess_run(name, path, tree, tests, timeout)
-        if rc is None:
-            return "timeout"
-    return "survived" if rc == 0 else "killed"
+    finally:
+        for pid in running:       # interrupted: leave no child behind
+            os.kill(pid, signal.SIGKILL)
+            os.waitpid(pid, 0)
+    return out
 
 
 def _subprocess_run(name, path, tree, tests, timeout):
@@ -228,23 +253,23 @@ def load_equivalent() -> dict[str, dict[tuple, str]]:
     return out
 
 
-def mutate_module(path: str, tests: list[str], equivalent: dict, timeout: float | None, verbose: bool) -> dict:
+def mutate_module(path: str, tests: list[str], equivalent: dict, timeout: float | None, verbose: bool,
+                  jobs: int = 1) -> dict:
     source = (REPO / path).read_text(encoding="utf-8")
     name = module_name(path)
     mutants = enumerate_mutants(source)
     t0 = time.monotonic()
-    if run_once(name, path, None, tests, 600.0) != "survived":
+    if run_many(name, path, [None], tests, 600.0)[0] != "survived":
         raise SystemExit(f"{path}: the mapped tests fail without any mutation ({' '.join(tests)})")
     base = time.monotonic() - t0
     limit = timeout or max(20.0, 5.0 * base)
     counts = {"killed": 0, "survived": 0, "timeout": 0, "equivalent": 0}
-    survivors = []
     lines = source.splitlines()
-    for m in mutants:
-        if m.key() in equivalent:
-            counts["equivalent"] += 1
-            continue
-        outcome = run_once(name, path, apply_mutant(source, m), tests, limit)
+    live = [m for m in mutants if m.key() not in equivalent]
+    counts["equivalent"] = len(mutants) - len(live)
+    outcomes = run_many(name, path, [apply_mutant(source, m) for m in live], tests, limit, jobs)
+    survivors = []
+    for m, outcome in zip(live, outcomes):
         counts[outcome] += 1
         if outcome == "survived":
             survivors.append(m)
@@ -264,6 +289,7 @@ def main(argv=None) -> int:
     ap.add_argument("modules", nargs="*", help="source files as in targets.yaml (default: all of them)")
     ap.add_argument("--timeout", type=float, default=None, help="seconds per mutant (default 5x the clean run)")
     ap.add_argument("--list", action="store_true", help="list the mutants only")
+    ap.add_argument("-j", "--jobs", type=int, default=1, help="mutants run at the same time (default 1)")
     ap.add_argument("-v", "--verbose", action="store_true", help="print every mutant's outcome")
     args = ap.parse_args(argv)
     targets = yaml.safe_load((HERE / "targets.yaml").read_text(encoding="utf-8"))
@@ -282,7 +308,7 @@ def main(argv=None) -> int:
     equivalent = load_equivalent()
     results = []
     for path in modules:
-        res = mutate_module(path, targets[path], equivalent.get(path, {}), args.timeout, args.verbose)
+        res = mutate_module(path, targets[path], equivalent.get(path, {}), args.timeout, args.verbose, args.jobs)
         results.append(res)
         c = res["counts"]
         print(f"{path}: {c['killed']} killed, {c['survived']} survived, {c['timeout']} timeout, "

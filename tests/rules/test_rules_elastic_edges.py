@@ -112,3 +112,67 @@ def test_bulk_nu_above_half_is_an_error_on_plates_too(write_deck):
     plate = _bulk(write_deck, PLATE + "MAT1,1,2.1+5,,.6\n", "plate6.bdf")
     assert [f.severity for f in plate] == ["error"] and "solid_use" not in plate[0].data
     assert "refused for solids and plates" in plate[0].message
+
+
+# ------------------------------------------------------------------- code_aster: NU = 0.5 by formulation
+
+def _aster(etypes, nu=(0.5,)):
+    d = Deck(fmt="aster", dialect="code_aster", path="s.comm")
+    d.material("S", elastic=[(10.0, v) for v in nu])
+    for i, et in enumerate(etypes):
+        d.elements(et, 2, elset=f"G{i}")
+        d.section("solid", f"G{i}", "S")
+    return d.run("elastic/poisson-out-of-range")
+
+
+@pytest.mark.parametrize("etypes,severity,said", [
+    (["3D/HEXA8"], "error", "displacement formulations then have an infinite bulk modulus"),
+    (["3D_INCO_UPG/HEXA20"], "note", "mixed (INCO) formulations"),
+    (["3D/HEXA8", "3D_INCO_UPG/HEXA20"], "error", "displacement formulations"),
+    (["COQUE_AXIS/SEG3"], "warning", "only structural elements"),
+    ([], "warning", "only structural elements"),
+])
+def test_aster_nu_half_graded_by_formulation(etypes, severity, said):
+    # code_aster DEFI_MATERIAU accepts NU = 0.5 (catalogue val_max=0.5, defi_materiau.py); the displacement
+    # elements then have K infinite, mixed INCO formulations admit the limit
+    found = _aster(etypes)
+    assert [f.severity for f in found] == [severity] and said in found[0].message
+
+
+def test_aster_nu_above_half_is_refused_on_every_formulation():
+    for etypes in (["3D_INCO_UPG/HEXA20"], ["COQUE_AXIS/SEG3"]):
+        found = _aster(etypes, nu=(0.5, 0.6))
+        assert [f.severity for f in found] == ["error"] and "refuses NU > 0.5" in found[0].message
+
+
+@pytest.mark.parametrize("bad", [float("inf"), float("-inf"), float("nan")])
+def test_non_finite_modulus_is_left_to_the_parser_findings(bad):
+    # a non-finite E cannot be graded (it is reported where it is read); no range finding is made of it
+    d = Deck()
+    d.material("M", elastic=[(bad, 0.3), (1000.0, float("nan"))])
+    assert d.run("elastic/poisson-out-of-range", "elastic/modulus-nonpositive", "elastic/poisson-negative") == []
+
+
+def test_aster_element_unknown_to_the_catalogue_counts_as_other():
+    assert [f.severity for f in _aster(["3D/NOSUCH8"])] == ["warning"]
+
+
+def test_bulk_nonpositive_E_does_not_quote_calculix():
+    d = Deck(fmt="bulk", dialect="mystran", path="d.bdf")
+    d.material("M", elastic=[(-5.0, 0.3)])
+    found = d.run("elastic/modulus-nonpositive")
+    assert len(found) == 1 and "CalculiX" not in found[0].message
+
+
+@pytest.mark.parametrize("rule_id,rows", [
+    ("elastic/poisson-out-of-range", [(1000.0, 0.3), (1000.0, 0.6), (1000.0, 0.7)]),
+    ("elastic/modulus-nonpositive", [(1000.0, 0.3), (-1.0, 0.3), (-2.0, 0.3)]),
+    ("elastic/poisson-negative", [(1000.0, 0.3), (1000.0, -0.1), (1000.0, -0.2)]),
+    ("elastic/near-incompressible", [(1000.0, 0.3), (1000.0, 0.495), (1000.0, 0.496)]),
+])
+def test_finding_points_at_the_first_row_concerned(rule_id, rows):
+    d = Deck()
+    mat = d.material("M", elastic=[r + (20.0 * (i + 1),) for i, r in enumerate(rows)])
+    found = d.run(rule_id)
+    assert len(found) == 1 and len(found[0].data["rows"]) == 2
+    assert found[0].line == mat.blocks[0].rows[1].loc.line == found[0].data["rows"][0]["line"]
