@@ -66,6 +66,12 @@ def discover(paths: list[str], result: RunResult, config: Config, mapper=map) ->
                 elif fmt:
                     walked.append((f, fmt))
             continue
+        from .parsers.sources import not_regular
+
+        special = not_regular(p)
+        if special:
+            result.general.append(general_finding("parse/file-unreadable", f"{p}: {special}", p))
+            continue
         try:
             head = _head(p)
         except OSError as exc:
@@ -106,8 +112,10 @@ def discover(paths: list[str], result: RunResult, config: Config, mapper=map) ->
 
 
 def _walk(top: str, result: RunResult):
-    """Files under ``top`` in sorted order; follows links to folders once (loops are cut)."""
+    """Files under ``top`` in sorted order. A link to a folder is followed only when its target lies
+    inside ``top`` (the walk never leaves the folder given) and each folder is read once (no loops)."""
     seen_dirs: set[str] = set()
+    root = os.path.realpath(top)
     stack = [top]
     while stack:
         d = stack.pop()
@@ -125,13 +133,18 @@ def _walk(top: str, result: RunResult):
         for e in entries:
             try:
                 if e.is_dir(follow_symlinks=True):
-                    if not e.name.startswith("."):
+                    if not e.name.startswith(".") and _inside(e.path, root):
                         subdirs.append(e.path)
                 elif e.is_file(follow_symlinks=True):
                     yield e.path
             except OSError:
                 continue
         stack.extend(reversed(subdirs))
+
+
+def _inside(path: str, root: str) -> bool:
+    real = os.path.realpath(path)
+    return real == root or real.startswith(root.rstrip(os.sep) + os.sep)
 
 
 def make_policy(paths: list[str], config: Config) -> IncludePolicy:
