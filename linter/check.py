@@ -21,7 +21,8 @@ from .parsers.sources import SourceError
 INCOMPLETE_RULES = {"internal/rule-failed", "internal/parser-failed", "internal/derive-failed",
                     "parse/include-refused", "parse/file-unreadable", "parse/binary-file",
                     "parse/file-too-large", "parse/not-a-deck", "parse/path-not-found",
-                    "parse/no-deck-found", "parse/include-unreadable", "internal/plugin-failed"}
+                    "parse/no-deck-found", "parse/include-unreadable", "internal/plugin-failed",
+                    "parse/missing-include"}
 
 
 def material_summary(model) -> list[dict[str, Any]]:

@@ -84,11 +84,9 @@ def discover(paths: list[str], result: RunResult, config: Config, mapper=map) ->
             if looks_binary(head):
                 result.general.append(general_finding("parse/binary-file", f"{p}: is a binary file, not a text deck", p))
             elif not head.strip():
-                fmts = parsers.formats_for_extension(os.path.splitext(p)[1])
-                if fmts:
-                    explicit.append((p, fmts[0]))
-                    continue
-                result.general.append(general_finding("parse/not-a-deck", f"{p}: empty file of unknown format", p))
+                # a file given by name must be a model: an empty one fails the check (an empty include is a warning)
+                result.general.append(general_finding("parse/not-a-deck", f"{p}: the file is empty (or blank): "
+                                                      "it holds no model", p))
             else:
                 result.general.append(general_finding(
                     "parse/not-a-deck", f"{p}: does not look like a deck of a known format "

@@ -39,6 +39,8 @@ class Rule:
     #: emitted by the engine itself (parse driver, runner) rather than run as a function
     engine: bool = False
     pack: str = "builtin"
+    #: when a finding of the rule takes another level than ``severity`` (empty: never)
+    escalation: str = ""
 
     @property
     def family(self) -> str:
@@ -65,7 +67,7 @@ def register(r: Rule) -> Rule:
 
 def rule(id: str, *, severity: str, title: str, rationale: str, references: Iterable[str] = (),
          data: str = "", formats: Optional[Iterable[str]] = None, dialects: Optional[Iterable[str]] = None,
-         pack: Optional[str] = None):
+         pack: Optional[str] = None, escalation: str = ""):
     """Decorator: register ``fn(model, ctx)`` as rule ``id``."""
 
     def deco(fn: Callable) -> Callable:
@@ -74,7 +76,8 @@ def rule(id: str, *, severity: str, title: str, rationale: str, references: Iter
         fn.rule = register(Rule(id=id, severity=severity, title=title, rationale=rationale, func=fn,
                                 references=tuple(references), data=data,
                                 formats=tuple(formats) if formats else None,
-                                dialects=tuple(dialects) if dialects else None, pack=the_pack))
+                                dialects=tuple(dialects) if dialects else None, pack=the_pack,
+                                escalation=escalation))
         return fn
 
     return deco

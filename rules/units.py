@@ -16,7 +16,8 @@ def _problems(model, kind):
             yield p
 
 
-@rule("units/mismatch", severity="error", title="Values of one model written in different unit systems",
+@rule("units/mismatch", severity="error",
+      escalation="note when no element uses the material or no analysis of the deck reads the quantity", title="Values of one model written in different unit systems",
       rationale="The solver has no units: a material whose moduli are in MPa and density in kg/m^3, or one "
                 "material pasted in Pa into an MPa model, gives masses, frequencies or stiffness wrong by "
                 "powers of ten without any message. The quantity that no single system explains is named "
@@ -32,7 +33,8 @@ def mismatch(model, ctx):
                           defect=("units", p.material, tuple(p.data.get("quantities", ()))))
 
 
-@rule("units/implausible", severity="warning", title="A value outside every plausible range in the unit system",
+@rule("units/implausible", severity="warning",
+      escalation="note when no element uses the material or no analysis of the deck reads the value", title="A value outside every plausible range in the unit system",
       rationale="Judged against the bands of the material's best-fitting class (metal, mineral, polymer, "
                 "composite, elastomer, foam, fluid) in the inferred or declared system, the value is "
                 "implausible, and no other unit system explains it either: a typing slip, a percent "
@@ -54,7 +56,8 @@ def gravity(model, ctx):
         yield ctx.finding(p.message, p.loc, data=p.data, severity=p.severity)
 
 
-@rule("units/undetermined", severity="note", title="Too little evidence to tell the unit system",
+@rule("units/undetermined", severity="note",
+      escalation="error when the declared system is unknown", title="Too little evidence to tell the unit system",
       rationale="The values of the model fit more than one unit system about equally well (for example only "
                 "E and nu, with no density, gravity or thermal data), so unit slips cannot be checked with "
                 "confidence. Declare the system (--units, config key units) to check against it. A declared "

@@ -167,7 +167,12 @@ def test_rules_listing(capsys):
     assert [r["id"] for r in json.loads(out)] == ids
     code, out, _ = run(["rules", "--format", "markdown"], capsys)
     assert out == rules_markdown(registry.all_rules())
-    assert out.startswith("| Rule | Severity | What it reports |") and out.count("\n| `") == len(ids)
+    assert out.startswith("| Rule | Severity | Other levels, and when | What it reports |") \
+        and out.count("\n| `") == len(ids)
+    # a rule whose findings can take another level says when, in its own row
+    row = next(x for x in out.splitlines() if x.startswith("| `element/volumetric-locking`"))
+    assert "error when" in row and "note on" in row
+    assert next(x for x in out.splitlines() if x.startswith("| `model/unused-material`")).split(" | ")[2] == "-"
 
 
 def test_readme_rule_list_is_current():

@@ -28,6 +28,8 @@ def procedure_kind(kw: KeywordLine) -> str:
     steady = "STEADYSTATE" in kw.params
     if kw.key == "DYNAMIC" and "EXPLICIT" in kw.params:
         return "dynamic-explicit"
+    if kw.key == "HEATTRANSFER" and "FREQUENCY" in kw.params:
+        return "heat-frequency"
     if kw.key == "HEATTRANSFER" and steady:
         return "heat-steady"
     if kw.key == "COUPLEDTEMPERATURE-DISPLACEMENT" and steady:

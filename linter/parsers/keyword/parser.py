@@ -21,7 +21,7 @@ from ..includes import IncludeTracker
 from ...model import DeckModel, Include, Loc, Material, Procedure, Unchecked, norm_key
 from . import DEFAULT_DIALECT, FORMAT
 from ..sources import SourceError, read_deck_bytes
-from . import cards
+from . import cards, keywords
 from . import mesh
 from .lex import KeywordLine, Reader, parse_keyword_line
 from .materials import MATERIAL_CARDS, read_material_card
@@ -88,6 +88,9 @@ CONSTRAINT OBJECTIVE FILTER GEOMETRICCONSTRAINT CORRELATEDLOADS ELEMENTOUTPUT HE
 MASSFLOW REFINEMESH STATICOUTPUT COUPLEDTEMPERATUREDISPLACEMENT
 """.split())
 
+#: a "keyword" that is a number (``*5e8,0``): a data line written with a leading '*'
+_STRAY_DATA = re.compile(r"[-+.]?\d")
+
 _catalogue = None
 
 
@@ -118,6 +121,8 @@ def sniff(head: bytes) -> float:
     if not kws:
         return 0.05 if any(ln.startswith(b"**") for ln in lines) else 0.0
     names = {re.sub(rb"[\s,].*", b"", k[1:].upper().replace(b" ", b"")) for k in kws}
+    if not any(n.decode("latin-1") in keywords.CALCULIX_KEYWORDS for n in names):
+        return 0.1           # lines that start with '*' but no keyword the solver knows: not a deck
     strong = {b"NODE", b"ELEMENT", b"MATERIAL", b"ELASTIC", b"STEP", b"HEADING", b"INCLUDE", b"SOLIDSECTION",
               b"NSET", b"ELSET", b"DENSITY", b"BOUNDARY", b"SHELLSECTION", b"STATIC"}
     hits = len(names & strong)
@@ -174,6 +179,8 @@ class _Parser:
         self.material: Optional[Material] = None
         self.step = None
         self.last_kw: Optional[KeywordLine] = None
+        self.prev_kw: Optional[KeywordLine] = None
+        self.modes_from: Optional[str] = None     # the kind of the last eigenmode step
         self.unknown: dict[str, list] = {}
         self.elsets_by_card: set[str] = set()
         self.model.extras["encoding"] = {}
@@ -257,6 +264,7 @@ class _Parser:
         ``continuation``: the data of ``kw`` goes on in an included file (``rd``)."""
         key = kw.key
         model = self.model
+        self.prev_kw = self.last_kw if not continuation else self.prev_kw
         if key != "INCLUDE":
             self.last_kw = kw
         if continuation:
@@ -275,7 +283,13 @@ class _Parser:
         if key == "INCLUDE":                  # inlined by the solver: an open material block goes on
             self.include(rd, kw)
             return
-        self.material = None
+        if self.material is not None and _STRAY_DATA.match(key):
+            pass          # a data line written with a leading '*': ccx skips it, the material stays open
+        elif self.material is not None and self.dialect == "calculix" and not keywords.is_known(key) \
+                and key not in KNOWN_SKIPPED:
+            pass          # ccx skips a card it cannot interpret; later material cards still apply
+        else:
+            self.material = None
         if key == "MATERIAL":
             self.open_material(rd, kw)
         elif key == "NODE":
@@ -317,6 +331,7 @@ class _Parser:
         elif key == "PHYSICALCONSTANTS":
             cards.read_physical_constants(rd, kw, model)
         elif key not in KNOWN_SKIPPED:
+            self.unknown_keyword(rd, kw, rd.data[:max(0, start - 1)].rsplit(b"\n", 1)[-1])
             seen = self.unknown.get(key)
             if seen is None:
                 entry = Unchecked(what=kw.written.upper(), loc=kw.loc, reason="")
@@ -324,6 +339,28 @@ class _Parser:
                 model.unchecked.append(entry)
             else:
                 seen[1] += 1
+
+    def unknown_keyword(self, rd: Reader, kw: KeywordLine, raw: bytes) -> None:
+        """A keyword the solver does not know: a data line with a stray '*', or a misspelling."""
+        prev = self.prev_kw
+        if _STRAY_DATA.match(kw.key):
+            issues = self.model.issues
+            before = ""
+            if prev is not None and issues and issues[-1].code == "malformed-data" \
+                    and issues[-1].loc == prev.loc and "has no data line" in issues[-1].message:
+                issues.pop()          # the card above lacks its data because of this line: one finding
+                before = f"; {prev.written} (line {prev.loc.line}) is left without data"
+            text = raw.decode("latin-1").strip()[:60]
+            rd.issue("malformed-data", f"the line '{text}' starts with '*', so the solver reads it as a keyword "
+                     f"it does not know and skips it{before}: a data line must not start with '*'", kw.loc.line,
+                     line_text=text)
+            return
+        if self.dialect != "calculix" or keywords.is_known(kw.key):
+            return
+        near = keywords.closest(kw.key)
+        hint = f"; did you mean {keywords.written(near)}?" if near else ""
+        rd.issue("unknown-keyword", f"{kw.written} is not a CalculiX keyword: the solver skips it and its data "
+                 f"lines{hint}", kw.loc.line, material=self.material.name if self.material else None, keyword=kw.written, closest=keywords.written(near) if near else None)
 
     def continue_card(self, rd: Reader, kw: KeywordLine, start: int, end: int, first_line: int,
                       nlines: int) -> None:
@@ -365,7 +402,12 @@ class _Parser:
             rd.issue("misplaced-card", f"{kw.written} outside a *STEP ... *END STEP block", kw.loc.line)
             return
         opts = {k: kw.params[k] for k in kw.order}
-        self.step.procedures.append(Procedure(cards.procedure_kind(kw), kw.written, kw.loc, opts))
+        kind = cards.procedure_kind(kw)
+        if kind in ("frequency", "complex-frequency", "heat-frequency"):
+            self.modes_from = kind
+        elif kind in ("modal-dynamic", "steady-state-dynamics") and self.modes_from == "heat-frequency":
+            kind = "scalar-modal"   # works on the modes of the scalar field (ccx: acoustic analogy)
+        self.step.procedures.append(Procedure(kind, kw.written, kw.loc, opts))
 
     def include(self, rd: Reader, kw: KeywordLine) -> None:
         written = kw.get("INPUT")
