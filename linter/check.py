@@ -10,20 +10,12 @@ import time
 import traceback
 from typing import Any, Optional
 
-from . import parsers
+from . import parsers, registry
 from .config import Config
 from .discovery import discover, general_finding, make_policy
 from .findings import FileReport, Finding, RunResult, jsonable
 from .parsers.includes import IncludePolicy
 from .parsers.sources import SourceError
-
-#: rules whose findings make the check incomplete (exit code 2)
-INCOMPLETE_RULES = {"internal/rule-failed", "internal/parser-failed", "internal/derive-failed",
-                    "parse/include-refused", "parse/file-unreadable", "parse/binary-file",
-                    "parse/file-too-large", "parse/not-a-deck", "parse/path-not-found",
-                    "parse/no-deck-found", "parse/include-unreadable", "internal/plugin-failed",
-                    "parse/missing-include"}
-
 
 def material_summary(model) -> list[dict[str, Any]]:
     from .usage import element_types_of
@@ -53,6 +45,7 @@ def check_file(path: str, fmt: str, config: Config, policy: IncludePolicy) -> Fi
     try:
         mod = parsers.get(fmt)
         opts = parsers.ParseOptions(dialect=dialect, include=policy, max_file_size=config.max_file_size,
+                                    materials=config.materials if fmt == "mesh" else None,
                                     display_path=path)
         model = mod.parse(path, opts)
     except SourceError as exc:
@@ -89,7 +82,7 @@ def check_file(path: str, fmt: str, config: Config, policy: IncludePolicy) -> Fi
         "nodes": model.geometry.node_count,
         "steps": [p.kind for _s, p in model.procedures()],
     })
-    report.incomplete = any(f.rule in INCOMPLETE_RULES for f in report.findings)
+    report.incomplete = registry.makes_incomplete(report.findings)
     report.seconds = time.perf_counter() - t0
     return report
 
@@ -114,8 +107,6 @@ def _no_deck_check(decks: list, result: RunResult, paths: list[str]) -> list:
 
 
 def check_paths(paths: list[str], config: Optional[Config] = None, jobs: Optional[int] = None) -> RunResult:
-    from . import registry
-
     config = config or Config()
     result = RunResult()
     registry.load()
@@ -145,6 +136,5 @@ def check_paths(paths: list[str], config: Optional[Config] = None, jobs: Optiona
     else:
         decks = _no_deck_check(discover(paths, result, config), result, paths)
         result.files = [_check_one((p, fmt, config, policy)) for p, fmt in decks]
-    result.incomplete = bool(result.general and any(f.rule in INCOMPLETE_RULES for f in result.general)) or \
-        any(f.incomplete for f in result.files)
+    result.incomplete = registry.makes_incomplete(result.general) or any(f.incomplete for f in result.files)
     return result

@@ -49,6 +49,8 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--include-root", metavar="DIR", help="includes may not resolve outside this folder")
     c.add_argument("--allow-include-outside", action="store_true", help="allow includes anywhere")
     c.add_argument("--units", metavar="SYSTEM", help="declare the unit system instead of inferring it")
+    c.add_argument("--materials", metavar="FILE",
+                   help="material file (deckwarden: 1) for the mesh files given (Gmsh, VTK, XDMF, MED ...)")
     c.add_argument("--select", action="append", default=[], metavar="ID|FAMILY",
                    help="run only these rules or families (repeatable, or comma-separated)")
     c.add_argument("--ignore", action="append", default=[], metavar="ID|FAMILY",
@@ -116,6 +118,13 @@ def _config(args):
         cfg.allow_include_outside = True
     if args.units:
         cfg.units = args.units
+    if args.materials:
+        if not os.path.isfile(args.materials):
+            raise UsageError(f"--materials {args.materials}: not a file")
+        folders = [p for p in args.paths if os.path.isdir(p)]
+        if folders:
+            raise UsageError(f"--materials takes mesh files, not folders ({folders[0]})")
+        cfg.materials = args.materials
     select, ignore = _split(args.select), _split(args.ignore)
     _check_rule_names(select + ignore)
     if select:
@@ -213,15 +222,18 @@ def cmd_rules(args) -> int:
         doc = [{"id": r.id, "severity": r.severity, "title": r.title, "rationale": r.rationale,
                 "references": list(r.references), "data": r.data, "pack": r.pack,
                 "formats": list(r.formats) if r.formats else None,
-                "dialects": list(r.dialects) if r.dialects else None} for r in rules]
+                "dialects": list(r.dialects) if r.dialects else None, "incomplete": r.incomplete} for r in rules]
         sys.stdout.write(json.dumps(doc, indent=2, ensure_ascii=False) + "\n")
     else:
         w = max((len(r.id) for r in rules), default=10)
         for r in rules:
             sys.stdout.write(f"{r.id:<{w}}  {r.severity:<7}  {r.title}\n")
         sys.stdout.write(f"{len(rules)} rules\n")
-    for name, detail in registry.plugin_errors():
-        print(f"deckwarden: rule plugin {name!r} could not be loaded: {detail}", file=sys.stderr)
+    from . import parsers
+
+    for kind, errors in (("rule", registry.plugin_errors()), ("parser", parsers.plugin_errors())):
+        for name, detail in errors:
+            print(f"deckwarden: {kind} plugin {name!r} could not be loaded: {detail}", file=sys.stderr)
     return 0
 
 
@@ -253,6 +265,8 @@ def cmd_explain(args) -> int:
         out.append(f"formats: {', '.join(r.formats)}\n")
     if r.dialects:
         out.append(f"dialects: {', '.join(r.dialects)}\n")
+    if r.incomplete:
+        out.append("a finding of this rule makes the check incomplete (exit code 2)\n")
     out.append(para("why", r.rationale or "(no rationale given)"))
     out.append("references:\n" + ("".join(f"  - {ref}\n" for ref in r.references) or "  (none)\n"))
     out.append(para("finding data", r.data or "(nothing beyond the message)"))

@@ -31,7 +31,7 @@ from .findings import SEVERITIES
 from .safe_yaml import load_package_yaml, load_yaml_file
 
 CONFIG_NAMES = ("deckwarden.yaml", ".deckwarden.yaml")
-DEFAULT_DIALECTS = {"keyword": "calculix", "bulk": "mystran"}
+DEFAULT_DIALECTS = {"keyword": "calculix", "bulk": "mystran", "mesh": "meshio", "aster": "code_aster"}
 
 
 class ConfigError(ValueError):
@@ -69,6 +69,8 @@ class Config:
     max_include_depth: int = 16
     max_file_size_mb: float = 4096.0
     jobs: int = 1
+    #: material file for the meshes given on the command line (``--materials``); not a configuration key
+    materials: Optional[str] = None
     #: the file this configuration came from (None: defaults)
     source: Optional[str] = None
 

@@ -12,6 +12,9 @@ from .findings import Finding, RunResult
 from .parsers.includes import IncludePolicy, default_root
 
 SNIFF_BYTES = 65536
+#: extensions of common mesh files (meshio reads them with a material file; alone they are not decks)
+MESH_EXTENSIONS = (".msh", ".vtu", ".vtk", ".xdmf", ".xmf", ".med", ".mesh", ".meshb", ".obj", ".ply", ".stl",
+                   ".off", ".h5m", ".e", ".exo", ".su2", ".ugrid", ".f3grid", ".node", ".ele")
 
 
 def general_finding(rule: str, message: str, path: Optional[str]) -> Finding:
@@ -54,6 +57,13 @@ def discover(paths: list[str], result: RunResult, config: Config, mapper=map) ->
     explicit: list[tuple[str, str]] = []
     walked: list[tuple[str, str]] = []
     exts = parsers.all_extensions()
+    if config.materials:  # mesh route: every path is a mesh, checked with the material file given
+        for p in paths:
+            if not os.path.lexists(p):
+                result.general.append(general_finding("parse/path-not-found", f"{p}: no such file or folder", p))
+            else:
+                explicit.append((p, "mesh"))
+        return explicit
     for p in paths:
         if not os.path.lexists(p):
             result.general.append(general_finding("parse/path-not-found", f"{p}: no such file or folder", p))
@@ -88,9 +98,11 @@ def discover(paths: list[str], result: RunResult, config: Config, mapper=map) ->
                 result.general.append(general_finding("parse/not-a-deck", f"{p}: the file is empty (or blank): "
                                                       "it holds no model", p))
             else:
+                hint = (" (a mesh: check it with --materials FILE, or name it in a material file)"
+                        if os.path.splitext(p)[1].lower() in MESH_EXTENSIONS else "")
                 result.general.append(general_finding(
                     "parse/not-a-deck", f"{p}: does not look like a deck of a known format "
-                    f"({', '.join(parsers.names())})", p))
+                    f"({', '.join(parsers.names())}){hint}", p))
             continue
         explicit.append((p, fmt))
     # a file that only serves as an include of another walked deck is not linted on its own

@@ -41,6 +41,8 @@ class Rule:
     pack: str = "builtin"
     #: when a finding of the rule takes another level than ``severity`` (empty: never)
     escalation: str = ""
+    #: a finding of this rule means part of the input was not checked: the check is incomplete (exit code 2)
+    incomplete: bool = False
 
     @property
     def family(self) -> str:
@@ -67,7 +69,7 @@ def register(r: Rule) -> Rule:
 
 def rule(id: str, *, severity: str, title: str, rationale: str, references: Iterable[str] = (),
          data: str = "", formats: Optional[Iterable[str]] = None, dialects: Optional[Iterable[str]] = None,
-         pack: Optional[str] = None, escalation: str = ""):
+         pack: Optional[str] = None, incomplete: bool = False, escalation: str = ""):
     """Decorator: register ``fn(model, ctx)`` as rule ``id``."""
 
     def deco(fn: Callable) -> Callable:
@@ -77,17 +79,17 @@ def rule(id: str, *, severity: str, title: str, rationale: str, references: Iter
                                 references=tuple(references), data=data,
                                 formats=tuple(formats) if formats else None,
                                 dialects=tuple(dialects) if dialects else None, pack=the_pack,
-                                escalation=escalation))
+                                incomplete=incomplete, escalation=escalation))
         return fn
 
     return deco
 
 
 def engine_rule(id: str, *, severity: str, title: str, rationale: str, references: Iterable[str] = (),
-                data: str = "") -> Rule:
+                data: str = "", incomplete: bool = False) -> Rule:
     """Register a rule whose findings the engine itself emits (parse driver, runner)."""
     return register(Rule(id=id, severity=severity, title=title, rationale=rationale, func=None,
-                         references=tuple(references), data=data, engine=True))
+                         references=tuple(references), data=data, engine=True, incomplete=incomplete))
 
 
 def load(plugins: bool = True) -> dict[str, Rule]:
@@ -147,6 +149,16 @@ def plugin_errors() -> list[tuple[str, str]]:
 
 def get(rule_id: str) -> Optional[Rule]:
     return load().get(rule_id)
+
+
+def makes_incomplete(findings) -> bool:
+    """Whether any of ``findings`` comes from a rule declared ``incomplete`` (exit code 2)."""
+    rules = load()
+    for f in findings:
+        r = rules.get(f.rule)
+        if r is not None and r.incomplete:
+            return True
+    return False
 
 
 def all_rules() -> list[Rule]:

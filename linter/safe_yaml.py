@@ -58,3 +58,31 @@ def load_package_yaml(text: str):
     """
     loader = getattr(yaml, "CSafeLoader", None) or yaml.SafeLoader
     return yaml.load(text, Loader=loader)  # noqa: S506 - a safe loader
+
+
+def compose_yaml_text(text: str, what: str = "YAML document"):
+    """The node tree of a user YAML document (same guards as :func:`load_yaml_text`).
+
+    Nodes keep their position: ``node.start_mark.line`` is the 0-based line. None for an empty
+    document. Scalars are not converted; :func:`scalar_value` does that with the safe resolver.
+    """
+    if len(text.encode("utf-8", "replace")) > MAX_YAML_BYTES:
+        raise YamlRefused(f"{what} is larger than {MAX_YAML_BYTES} bytes")
+    loader = None
+    try:
+        loader = _NoAliasLoader(text)
+        return loader.get_single_node()
+    except YamlRefused:
+        raise
+    except yaml.YAMLError as exc:
+        mark = getattr(exc, "problem_mark", None)
+        where = f"line {mark.line + 1}: " if mark is not None else ""
+        raise YamlRefused(f"{what}: {where}{getattr(exc, 'problem', None) or exc}") from None
+    finally:
+        if loader is not None:
+            loader.dispose()
+
+
+def scalar_value(node):
+    """The Python value of a scalar node, as the safe loader constructs it (int, float, bool, None, str)."""
+    return _NoAliasLoader("").construct_object(node)

@@ -26,6 +26,19 @@ def used_materials(model: DeckModel) -> list[Material]:
     return [m for k, m in model.materials.items() if k in usage]
 
 
+def step_materials(model: DeckModel, proc) -> list[Material]:
+    """The used materials a step works with: all of them, or the step's own material field when the parser
+    names it (``Procedure.options["materials"]``: code_aster analyses take one CHAM_MATER each)."""
+    mats = used_materials(model)
+    scope = proc.options.get("materials") if proc is not None else None
+    return mats if scope is None else [m for m in mats if m.key in set(scope)]
+
+
+def volumetric_heat_capacity(mat: Material) -> bool:
+    """The material gives rho*c itself (code_aster RHO_CP), so the heat capacity needs no density."""
+    return any(b.form == "volumetric" and b.rows for b in mat.find("specific_heat"))
+
+
 def element_count(model: DeckModel, key: str) -> int:
     return sum(sum(u.counts.values()) for u in material_usage(model).get(key, ()))
 
@@ -135,8 +148,10 @@ def missing_density(model, ctx):
                 if none_has and model.dialect == "calculix" else "")
     for need in ("mass", "transient_thermal"):
         for step, proc in _steps_needing(model, need):
-            for mat in used_materials(model):
+            for mat in step_materials(model, proc):
                 if mat.key in reported or has_positive(mat, "density", "rho"):
+                    continue
+                if need == "transient_thermal" and volumetric_heat_capacity(mat):
                     continue
                 covered, others = mass_cover(model, mat.key) if need == "mass" else (False, [])
                 if covered:
@@ -158,7 +173,7 @@ def missing_density(model, ctx):
         for load in step.loads:
             if load.kind not in ("gravity", "centrifugal"):
                 continue
-            for mat in used_materials(model):
+            for mat in step_materials(model, step.procedures[0] if step.procedures else None):
                 if mat.key in reported or mat.key not in materials_on(model, load.target):
                     continue
                 if has_positive(mat, "density", "rho"):
@@ -180,7 +195,7 @@ def missing_density(model, ctx):
 
 def _simple_need(model, ctx, need: str, kind: str, column: str, words: str, skip=None):
     for step, proc in _steps_needing(model, need):
-        for mat in used_materials(model):
+        for mat in step_materials(model, proc):
             if has_positive(mat, kind, column) or (skip and skip(model, ctx, mat.key)):
                 continue
             yield ctx.finding(f"material {mat.name} has no {words}, but {_step_words(step, proc)} needs it",
@@ -236,7 +251,7 @@ def missing_expansion(model, ctx):
         ld = changed[0]
         base = (f"initial temperature {min(init):.4g}" + (f"..{max(init):.4g}" if max(init) != min(init) else "")
                 if init else "no initial temperature (the solver's default)")
-        for mat in used_materials(model):
+        for mat in step_materials(model, step.procedures[0] if step.procedures else None):
             if has_expansion(mat) or not structural_use(model, ctx, mat.key):
                 continue
             given = mat.find("expansion")
@@ -265,7 +280,7 @@ def missing_expansion(model, ctx):
       references=(CCX_MAT, NAS_SOL), data="step, line")
 def missing_elastic(model, ctx):
     for step, proc in _steps_needing(model, "structural"):
-        for mat in used_materials(model):
+        for mat in step_materials(model, proc):
             if any(mat.has(k) for k in MECHANICAL) or not structural_use(model, ctx, mat.key):
                 continue
             yield ctx.finding(f"material {mat.name} has no elastic behaviour, but {_step_words(step, proc)} "

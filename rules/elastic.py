@@ -68,6 +68,32 @@ def _solid_use(model, ctx, key: str) -> bool:
     return False
 
 
+CONTINUUM = ("solid-3d", "plane-strain", "axisymmetric")
+ASTER_ELAS = ("code_aster DEFI_MATERIAU catalogue (code_aster/Cata/Commands/defi_materiau.py): ELAS NU has "
+              "val_min=-1, val_max=0.5, so 0.5 is accepted")
+
+
+def _aster_use(model, ctx, key: str) -> str:
+    """How code_aster elements use a material: "displacement" continuum, only "mixed" continuum, or "other"."""
+    kinds = set()
+    for use in material_usage(model).get(key, ()):
+        for etype, n in use.counts.items():
+            tech = ctx.catalogue.get(etype, model.dialect)
+            if n and tech is not None and tech.family in CONTINUUM:
+                kinds.add("mixed" if tech.integration == "mixed" else "displacement")
+    return "displacement" if "displacement" in kinds else "mixed" if kinds else "other"
+
+
+def _aster_tail(bad, use: str) -> str:
+    if any(r["nu"] > 0.5 for r in bad):
+        return "; code_aster refuses NU > 0.5 when it reads DEFI_MATERIAU"
+    return {"displacement": "; code_aster accepts NU = 0.5, but its displacement formulations then have an infinite "
+                            "bulk modulus: use a mixed formulation (3D_INCO_*, D_PLAN_INCO_*, AXIS_INCO_*)",
+            "mixed": "; the mixed (INCO) formulations it is used on admit the incompressible limit",
+            "other": "; only structural elements (beams, shells, bars, discrete) or no element use it, where nu "
+                     "enters the shear modulus only"}[use]
+
+
 @rule("elastic/poisson-out-of-range", severity="error",
       escalation="warning for a bulk NU = 0.5 on plates and shells only (accepted there, fatal in solids)",
       title="Poisson's ratio outside (-1, 0.5)",
@@ -76,8 +102,9 @@ def _solid_use(model, ctx, key: str) -> bool:
                 "represent it, and CalculiX refuses nu >= 0.5 while reading *ELASTIC. Above 0.5 K is negative; "
                 "at nu <= -1 the shear modulus G = E/(2(1+nu)) is infinite or negative. Bulk decks: nu = 0.5 on "
                 "MAT1 passes the input stage and is fatal only in solid elements, so it is an error where a solid "
-                "property uses the material and a warning on plates and shells.",
-      references=(CCX_ELASTICS, MODULI_TABLE, N95_MAT1, MYS_SOLID),
+                "property uses the material and a warning on plates and shells. code_aster accepts NU = 0.5: an "
+                "error on displacement continuum elements, a note on mixed (INCO) formulations, a warning elsewhere.",
+      references=(CCX_ELASTICS, MODULI_TABLE, N95_MAT1, MYS_SOLID, ASTER_ELAS),
       data=DATA_ROWS + "; solid_use: whether solid elements use it (bulk decks)")
 def poisson_out_of_range(model, ctx):
     for mat in model.all_materials():
@@ -89,6 +116,9 @@ def poisson_out_of_range(model, ctx):
             if model.format == "bulk" and all(r["nu"] == 0.5 for r in bad):
                 solid = _solid_use(model, ctx, mat.key)
                 severity = "error" if solid else "warning"
+            aster_use = _aster_use(model, ctx, mat.key) if model.format == "aster" else None
+            if aster_use and all(r["nu"] == 0.5 for r in bad):
+                severity = {"displacement": "error", "mixed": "note", "other": "warning"}[aster_use]
             parts = []
             for r in bad:
                 if r["nu"] >= 0.5:
@@ -96,7 +126,9 @@ def poisson_out_of_range(model, ctx):
                 else:
                     why = "G infinite" if r["nu"] == -1.0 else f"G = {num(r['G'])} < 0"
                 parts.append(f"nu = {num(r['nu'])}{at_t(r['T'])} on line {r['line']} ({why})")
-            if model.format == "bulk":
+            if aster_use:
+                tail = _aster_tail(bad, aster_use)
+            elif model.format == "bulk":
                 tail = ("; NU = 0.5 is fatal in solid elements" if solid else
                         "; NU = 0.5 is accepted on plates and shells but is fatal in solids") \
                     if all(r["nu"] == 0.5 for r in bad) else "; NU > 0.5 is refused for solids and plates"

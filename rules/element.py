@@ -118,21 +118,46 @@ def volumetric_locking(model, ctx):
         else:
             why = "plastic (isochoric plastic flow)"
             effect = "isochoric plastic flow locks these fully integrated low-order elements too"
+        if model.format == "mesh" and all(tech.locking == "unknown" for _c, tech, _s in affected.values()):
+            effect = "whether these cells lock depends on their formulation"
         msg = f"material {mat.name} is {why} and is used on {listing(parts)}: {effect}"
         suggestions = _ordered(alts)
-        if suggestions:
+        if model.format == "mesh":
+            msg += mesh_route_advice(model, mat, affected, suggestions, unknown, data_out := {})
+        elif suggestions:
             msg += f"; use {', '.join(suggestions)} instead"
         if unknown and model.format == "bulk":
             msg += ("; for these bulk solids the dialect and the element's integration options (PSOLID IN/ISOP) "
                     "decide whether they lock: ISOP=REDUCED is reduced shear integration, not a volumetric cure")
-        elif unknown:
+        elif unknown and model.format != "mesh":
             msg += "; for the elements of unknown grade (user elements) their own formulation decides"
         data = {"cause": cause["kind"] if cause else "plastic", "plastic": plastic,
                 "types": {t: {"count": c, "grade": tech.locking} for t, (c, tech, _s) in affected.items()},
                 "alternatives": alts}
         if cause:
             data.update({k: v for k, v in cause.items() if k not in ("kind", "text", "error")})
+        if model.format == "mesh":
+            data.update(data_out)
         yield ctx.finding(msg, mat.loc, material=mat.name, data=data, severity=severity)
+
+
+def mesh_route_advice(model, mat, affected: dict, suggestions: list[str], unknown: bool, data: dict) -> str:
+    """Mesh route: cell types are graded by the region's formulation; name what to write in the material file."""
+    forms = []
+    for s in suggestions:
+        base, _, form = s.partition(":")
+        if form and any(t.partition(":")[0] == base for t in affected) and form.lower() not in forms:
+            forms.append(form.lower())
+    text = f"; give the region a formulation that does not lock ({', '.join(forms)})" if forms else ""
+    if unknown:
+        lines = sorted({sec.loc.line for sec in model.sections for ref in sec.materials
+                        if ref.key == mat.key and not sec.options.get("formulation")})
+        data["regions_without_formulation"] = lines
+        where = f"the region at line{'s' if len(lines) > 1 else ''} {', '.join(map(str, lines))} gives" if lines \
+            else "a region gives"
+        text += (f"; {where} no formulation the catalogue grades, so the locking check cannot decide whether "
+                 "these cells lock")
+    return text
 
 
 def _ordered(alts: dict) -> list[str]:

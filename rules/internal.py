@@ -7,6 +7,7 @@ engine_rule(
     rationale="An exception inside one rule is contained: the other rules and files still run, but this "
               "rule's checks were not done on the deck, so the check is incomplete (exit code 2).",
     data="failed_rule: the id of the rule; exception: the exception type; detail: its message; where: file:line",
+    incomplete=True,
 )
 engine_rule(
     "internal/parser-failed", severity="error",
@@ -14,6 +15,7 @@ engine_rule(
     rationale="The deck could not be read because of a defect in deckwarden, not in the deck. Nothing in it "
               "was checked; the check is incomplete (exit code 2). Please report it with the deck.",
     data="exception, detail, where",
+    incomplete=True,
 )
 engine_rule(
     "internal/derive-failed", severity="error",
@@ -21,6 +23,7 @@ engine_rule(
     rationale="A derivation step (derived constants, unit inference, ...) raised an exception; rules that "
               "depend on it may be incomplete.",
     data="step, exception, detail",
+    incomplete=True,
 )
 engine_rule(
     "internal/plugin-failed", severity="error",
@@ -29,4 +32,5 @@ engine_rule(
               "deckwarden.parsers) failed to import, or a parser module lacks FORMAT, EXTENSIONS, sniff or "
               "parse: its rules did not run, or decks of its format were not recognised.",
     data="plugin, detail",
+    incomplete=True,
 )

@@ -153,6 +153,8 @@ def unused_material(model, ctx):
       references=(CCX_MAT + ": 'if a property is defined twice in one material, the last definition wins'",),
       data="kind; lines: the lines of the cards; kept: the line of the card the solver uses")
 def property_repeated(model, ctx):
+    if model.format == "aster":
+        return  # a DEFI_MATERIAU call cannot repeat a keyword (Python refuses it); its behaviours may coexist
     for mat in model.all_materials():
         by_kind: dict[str, list] = {}
         for blk in mat.blocks:

@@ -79,6 +79,23 @@ ISSUE_RULES = {
     "duplicate-set": ("note", "A set is defined more than once",
                       "Reopening a set adds to it (CalculiX); a repeated definition is often a copy-paste "
                       "left-over.", ("CCX-UM *ELSET",)),
+    "syntax-error": ("error", "A command file is not valid Python",
+                     "A code_aster command file is a Python program: a syntax error stops the solver before the "
+                     "first command. The line is skipped and the rest of the file is still read as data.",
+                     ("code_aster user manual U1.03.01 (the command file is Python)",)),
+    "code-not-run": ("warning", "A command file holds code that deckwarden does not run",
+                     "deckwarden reads command files as data and never imports, executes or evaluates them. A "
+                     "call to a Python function (open, __import__, a user function) is not followed, so what it "
+                     "computes is not checked; in a file of unknown origin it may also be unsafe to run.",
+                     ("common practice",)),
+    "evaluation-limit": ("warning", "A command file expression is beyond the reader's limits",
+                         "A number, sequence or nesting beyond the limits of the data reader (huge powers, "
+                         "very deep nesting, very long literals) is not computed; the values that depend on it are "
+                         "listed as unchecked.", ("common practice",)),
+    "paired-mesh": ("note", "A command file checked with the mesh of the same base name",
+                    "Without a run profile (.export) the logical units of LIRE_MAILLAGE are not known: the mesh "
+                    "named like the command file is used for unit 20, the solver's default unit.",
+                    ("code_aster LIRE_MAILLAGE: UNITE defaults to 20",)),
     "empty-file": ("warning", "The file holds no deck data", "The file is empty or holds only comments.", ()),
 }
 
@@ -102,9 +119,14 @@ def _with_consequences(model, message: str, data: dict) -> tuple[str, dict]:
 ESCALATION = {"malformed-data": "warning for values after the temperature that the solver does not read"}
 
 
+#: issues that mean part of the input was not read: the check is incomplete (exit code 2)
+INCOMPLETE_ISSUES = ("include-refused", "include-unreadable", "missing-include")
+
+
 def _make(code, severity, title, rationale, refs):
     @rule(f"parse/{code}", severity=severity, title=title, rationale=rationale, references=refs,
-          data="as recorded by the parser (e.g. field, value, read_as)", escalation=ESCALATION.get(code, ""))
+          data="as recorded by the parser (e.g. field, value, read_as)", incomplete=code in INCOMPLETE_ISSUES,
+          escalation=ESCALATION.get(code, ""))
     def _issue_rule(model, ctx, _code=code):
         for iss in model.issues:
             if iss.code == _code:
@@ -130,14 +152,19 @@ for _code, (_sev, _title, _why, _refs) in ISSUE_RULES.items():
     _make(_code, _sev, _title, _why, _refs)
 
 engine_rule("parse/path-not-found", severity="error", title="A path given does not exist",
-            rationale="The check is incomplete: a named file or folder does not exist (exit code 2).")
+            rationale="The check is incomplete: a named file or folder does not exist (exit code 2).", incomplete=True)
 engine_rule("parse/file-unreadable", severity="error", title="A file cannot be read",
-            rationale="Permissions, a broken link or an I/O error: the file was not checked (exit code 2).")
+            rationale="Permissions, a broken link or an I/O error: the file was not checked (exit code 2).",
+            incomplete=True)
 engine_rule("parse/binary-file", severity="error", title="A file is binary, not a text deck",
-            rationale="The file holds NUL bytes or control characters; it was not checked (exit code 2).")
+            rationale="The file holds NUL bytes or control characters; it was not checked (exit code 2).",
+            incomplete=True)
 engine_rule("parse/file-too-large", severity="error", title="A file is over the size limit",
-            rationale="Files over max_file_size_mb are not read, so that a hostile deck cannot exhaust memory.")
+            rationale="Files over max_file_size_mb are not read, so that a hostile deck cannot exhaust memory.",
+            incomplete=True)
 engine_rule("parse/not-a-deck", severity="error", title="A file given is not a deck of a known format",
-            rationale="A file named explicitly on the command line does not look like any supported format.")
+            rationale="A file named explicitly on the command line does not look like any supported format.",
+            incomplete=True)
 engine_rule("parse/no-deck-found", severity="error", title="No deck was found",
-            rationale="The paths given hold no file of a supported format; nothing was checked (exit code 2).")
+            rationale="The paths given hold no file of a supported format; nothing was checked (exit code 2).",
+            incomplete=True)

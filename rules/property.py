@@ -31,7 +31,8 @@ TABLE_KINDS = ("elastic", "expansion", "conductivity", "specific_heat", "density
                 "are checked here; whether the whole tensor is positive definite is aniso/conductivity-not-"
                 "positive-definite. A zero that only comes from an empty field is reported once, as "
                 "parse/empty-field. On bulk cards an empty field means the property is not given, and RHO or CP = 0 "
-                "(the card's default) means no mass or heat capacity: only negative values are reported there.",
+                "(the card's default) means no mass or heat capacity: only negative values are reported there. code_aster "
+                "command files write RHO = 0 the same way (ELAS accepts it) for analyses without mass.",
       references=(CCX_MAT, "physics.md 5.5 (handbook properties)"),
       data="kind; rows: list of {T, line, values: {column: value}} of the rows concerned")
 def nonpositive(model, ctx):
@@ -51,7 +52,7 @@ def nonpositive(model, ctx):
                 blank = [c for c in low if blk.layout.index(c) in row.blanks]
                 if blank and model.format == "bulk":
                     continue  # an empty bulk field: the property is simply not given
-                if model.format == "bulk" and blk.kind in BULK_ZERO_MEANS_NONE:
+                if model.format in ("bulk", "aster") and blk.kind in BULK_ZERO_MEANS_NONE:
                     low = {c: v for c, v in low.items() if v < 0}
                     if not low:
                         continue  # RHO/CP = 0 is the card's default: no mass / no heat capacity

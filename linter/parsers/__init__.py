@@ -30,6 +30,8 @@ ENTRY_POINT_GROUP = "deckwarden.parsers"
 BUILTIN = {
     "keyword": "linter.parsers.keyword",
     "bulk": "linter.parsers.bulk",
+    "aster": "linter.parsers.aster",
+    "mesh": "linter.parsers.mesh",
 }
 #: the attributes every parser module must have (``includes_of`` is optional)
 REQUIRED = ("FORMAT", "EXTENSIONS", "sniff", "parse")
@@ -56,6 +58,8 @@ class ParseOptions:
     max_file_size: int = 4 << 30
     #: path to show for the top deck (as the user gave it)
     display_path: Optional[str] = None
+    #: mesh route: the material file when the path checked is the mesh itself (``--materials``)
+    materials: Optional[str] = None
 
 
 _modules: dict = {}

@@ -1,29 +1,17 @@
 """The benchmark's deck generator, at tiny sizes: counts, lines, geometry and planted findings."""
 from __future__ import annotations
 
-import importlib.util
 import io
 import json
 import re
-import sys
 from pathlib import Path
 
 import numpy as np
 import pytest
 
-BENCH = Path(__file__).resolve().parent
 
 
-def _load(name):
-    spec = importlib.util.spec_from_file_location(f"_bench_{name}", BENCH / f"{name}.py")
-    mod = importlib.util.module_from_spec(spec)
-    sys.modules[spec.name] = mod
-    sys.path.insert(0, str(BENCH))
-    try:
-        spec.loader.exec_module(mod)
-    finally:
-        sys.path.remove(str(BENCH))
-    return mod
+from benchload import load as _load  # noqa: E402
 
 
 gen = _load("gen_decks")

@@ -106,3 +106,26 @@ def test_exit_codes():
     assert exit_code(_result("note"), "note") == 1
     assert exit_code(_result("error"), "error") == 1
     assert exit_code(_result("error", incomplete=True), "error") == 2  # 2 wins over 1
+
+
+def test_incompleteness_is_declared_on_the_rules():
+    declared = {r.id for r in registry.all_rules() if r.incomplete}
+    # every failure of deckwarden itself, and every input that could not be read in full
+    assert {r.id for r in registry.all_rules() if r.family == "internal"} <= declared
+    assert declared == {
+        "internal/rule-failed", "internal/parser-failed", "internal/derive-failed", "internal/plugin-failed",
+        "parse/include-refused", "parse/include-unreadable", "parse/file-unreadable", "parse/binary-file",
+        "parse/file-too-large", "parse/not-a-deck", "parse/path-not-found", "parse/no-deck-found"}
+
+
+def test_a_plugin_rule_may_declare_that_its_finding_makes_the_check_incomplete():
+    registry.load()
+    registry.rule("testpack/gave-up", severity="note", title="t", rationale="r", pack="testpack",
+                  incomplete=True)(lambda model, ctx: ())
+    try:
+        found = [Finding(rule="testpack/gave-up", severity="note", message="m", path="d.inp", line=1)]
+        assert registry.makes_incomplete(found)
+        assert not registry.makes_incomplete([Finding(rule="testpack/other", severity="error", message="m",
+                                                      path="d.inp", line=1)])
+    finally:
+        registry._RULES.pop("testpack/gave-up", None)

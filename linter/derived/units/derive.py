@@ -64,6 +64,8 @@ def _equiv(inf, j) -> bool:
 @derivation("unit system", order=80)
 def derive_units(model, config) -> None:
     declared = getattr(config, "units", None) if config is not None else None
+    # a material file declares its own system (units:); the command line or configuration wins
+    declared = declared or model.extras.get("declared_units")
     inf = infer(model_evidence(model), declared)
     model.derived["units_inference"] = inf
     model.derived["unit_system"] = summary(inf)

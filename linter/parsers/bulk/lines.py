@@ -177,6 +177,8 @@ def free_counts(lines: Lines, rows: np.ndarray, cn: np.ndarray) -> "np.ndarray |
 BLOCK = 1 << 20
 #: bytes given to the line table where no run fits; also the shortest run cut before an odd line
 SMALL = 1 << 16
+#: first characters of a continuation line (formats.md 4.3); a block never starts with one
+CONTINUATION = b"+*, "
 _ENDDATA = re.compile(rb"(?i)enddata")
 
 
@@ -190,6 +192,8 @@ class Run:
     line: int           # 0-based line index of its first line
     nlines: int
     summary: object = None
+    kind: str = "free"  # or "fixed" (small/large field: ``fixed``)
+    count: int = 0      # entries (set by the summary; 0: one per line)
 
 
 def carve(data: bytes, lo: int, line0: int, accept: Callable) -> tuple[list, list]:
@@ -234,7 +238,7 @@ def carve(data: bytes, lo: int, line0: int, accept: Callable) -> tuple[list, lis
 def _boundary(data: bytes, pos: int, limit: int) -> int:
     """Start of the first line at or after ``pos`` that does not continue an entry (``+``); -1 when none before limit."""
     q = data.find(b"\n", pos - 1, limit)
-    while q >= 0 and q + 1 < limit and data[q + 1] == PLUS:
+    while q >= 0 and q + 1 < limit and data[q + 1] in CONTINUATION:
         q = data.find(b"\n", q + 1, limit)
     return q + 1 if 0 <= q and q + 1 < limit else -1
 
@@ -242,7 +246,7 @@ def _boundary(data: bytes, pos: int, limit: int) -> int:
 def _boundary_before(data: bytes, p: int, limit: int) -> int:
     """Start of the last line after p and before limit that does not continue an entry; -1 when none."""
     r = data.rfind(b"\n", p, limit)
-    while r >= p and data[r + 1] == PLUS:
+    while r >= p and data[r + 1] in CONTINUATION:
         r = data.rfind(b"\n", p, r)
     return r + 1 if r >= p else -1
 
@@ -250,20 +254,19 @@ def _boundary_before(data: bytes, p: int, limit: int) -> int:
 def _run(data: bytes, p: int, q: int, line: int, accept: Callable) -> "Run | None":
     head = data[p:p + 9]
     c = head.find(b",")
-    if c <= 0:
-        return None
-    name = head[:c].decode("latin-1")
-    if not name.isupper() or not name.isalnum():
+    fixed = c < 0
+    name = (head[:8].split(b"*")[0].rstrip(b" ") if fixed else head[:c]).decode("latin-1")
+    if c == 0 or not name.isupper() or not name.isalnum():
         return None
     end = q
-    for ch in (b"$", b"*", b"\r", b" ", b"\t"):
+    for ch in ((b",", b"$", b"\r", b"\t") if fixed else (b"$", b"*", b"\r", b" ", b"\t")):
         f = data.find(ch, p, end)
         if f >= 0:                              # end before the entry that holds it
             end = data.rfind(b"\n", p, f) + 1
-            while p < end and data[end] == PLUS:
+            while p < end and data[end] in (CONTINUATION if fixed else b"+"):
                 end = data.rfind(b"\n", p, end - 1) + 1
     if end <= p or (end < q and end - p < SMALL):
         return None
-    run = Run(name, p, end, line, 0)
+    run = Run(name, p, end, line, 0, kind="fixed" if fixed else "free")
     run.summary = accept(name, data, run)      # checks every line, sets run.nlines, may move run.end back
     return run if run.summary is not None else None

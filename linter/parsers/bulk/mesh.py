@@ -12,11 +12,12 @@ from typing import Optional
 import numpy as np
 
 from ...model import ElementBlock, ElementSet, Geometry, Issue, Lazy, Loc
-from . import case as bc
+from . import coords
 from .cards import Card
 from .fields import FieldError, real, vec_int, vec_real
 from .lines import Lines, comma_counts, data_fields, free_counts, line_table
 from . import runs as br
+from . import fixed as bf
 from .. import sampling
 
 #: element card -> (most node fields, {node count threshold: type}) ; the type is the first whose limit fits
@@ -33,11 +34,17 @@ CHUNK = 200_000
 
 def accept_run(elements, name, data, run):
     """Summary of a run block of one mesh card (``lines.carve``), None when it must be read line by line."""
+    mod = bf if run.kind == "fixed" else br
     if name == "GRID":
-        return br.grid_plain(data, run)
+        return mod.grid_plain(data, run)
     if name in elements:
-        return br.element_summary(elements, name, data, run)
+        return mod.element_summary(elements, name, data, run)
     return None
+
+
+def _entries(run) -> int:
+    """Entries of a run block (one per line unless the summary counted them)."""
+    return run.count or run.nlines
 
 
 @dataclass
@@ -186,9 +193,9 @@ def _block_getters(name: str, pieces: list, ncols: int, rpieces: list = (), key:
     maxn = ELEMENTS[name][0]
 
     def in_file_order(arrays: list, runs: list) -> np.ndarray:
-        """Generic pieces' arrays, then run blocks' arrays; with run blocks, sorted by (file, line)."""
+        """Generic pieces' arrays, then run blocks' arrays; sorted by (file, line) when there is more than one."""
         out = np.concatenate(arrays + [r[1] for r in runs]).astype(np.int64)
-        if not runs:
+        if not runs and len(pieces) < 2:
             return out
         paths = [[p.cols["paths"][i] for i in sel] if "paths" in p.cols else [p.path] * sel.size for p, sel in pieces]
         paths = [x for ps in paths for x in ps] + [path for (_d, _r, path), r in zip(rpieces, runs)
@@ -199,7 +206,7 @@ def _block_getters(name: str, pieces: list, ncols: int, rpieces: list = (), key:
         return out[np.lexsort((line, prank))]
 
     def from_runs(i: int) -> list:
-        got = [br.element_arrays(ELEMENTS, name, d, r, key) for d, r, _path in rpieces]
+        got = [(bf if r.kind == "fixed" else br).element_arrays(ELEMENTS, name, d, r, key) for d, r, _path in rpieces]
         return [(g[2], g[i]) for g in got]
 
     def ids():
@@ -275,6 +282,10 @@ def build_elements(st) -> None:
 
 def _grid_run_part(st, data, run, path, sample: tuple = (), report: bool = True) -> _Part:
     """GRID columns of a run block, or of a sample (want, pieces) of its lines (``sampling``)."""
+    if run.kind == "fixed":
+        part = _Part(None, None, False, path)
+        part.cols = bf.grid_cols(data, run, sample)
+        return part
     if sample:
         chunk, srun = br.grid_sample(data, run, *sample)
         cols = br.grid_fast(chunk, srun)
@@ -299,18 +310,18 @@ def build_geometry(st, builder_cards: list[Card]) -> None:
     runs = getattr(st, "runs", {}).get("GRID", [])
     if not parts and not runs:
         return
-    total = sum(p.cols["gid"].size for p in parts) + sum(r.nlines for _d, r, _p in runs)
+    total = sum(p.cols["gid"].size for p in parts) + sum(_entries(r) for _d, r, _p in runs)
     if total <= sampling.EXACT_NODES_LIMIT or not runs:
         full = parts + [_grid_run_part(st, d, r, path) for d, r, path in runs]
         geo, gid, xyz = _geometry(full, builder_cards, total, [], sort=bool(runs))
         geo.nodes = Lazy.of((gid, xyz))
         st.model.geometry = geo
         return
-    exact, plain = [], list(runs)     # run blocks hold plain GRID lines only (runs.grid_plain)
-    n_plain = sum(r.nlines for _d, r, _p in plain)
+    exact, plain = [], list(runs)     # run blocks hold plain GRID entries only (runs/fixed.grid_plain)
+    n_plain = sum(_entries(r) for _d, r, _p in plain)
     want = sampling.sample_size(n_plain)
-    sampled = [_grid_run_part(st, d, r, path, (max(1, round(want * r.nlines / n_plain)),
-                                               max(1, round(sampling.PIECES * r.nlines / n_plain))), False)
+    sampled = [_grid_run_part(st, d, r, path, (max(1, round(want * _entries(r) / n_plain)),
+                                               max(1, round(sampling.PIECES * _entries(r) / n_plain))), False)
                for d, r, path in plain]
     geo, _gid, _xyz = _geometry(parts + exact + sampled, builder_cards, total, plain)
     if sampled:
@@ -359,13 +370,13 @@ def _geometry(parts: list, builder_cards: list[Card], total: int, runs: list, so
                 return xb[k]
             one = br.find_grid(runs, gi) if runs else None     # a node that was not sampled
             if one is None:
-                return None
+                return bf.find_grid(runs, gi) if runs else None
             part = _Part(one, np.zeros((1, 1), dtype=np.int64), True, "")
             _grid_cols(None, "GRID", part)
             return part.cols["xyz"][0] if not grdset or int(_safe_real(grdset[-1].s(3)) or 0) == 0 else None
 
-        systems, failed = bc.cord_systems(cords, lookup)
-        xyz, missing = bc.apply_systems(cp, xyz, systems)
+        systems, failed = coords.cord_systems(cords, lookup)
+        xyz, missing = coords.apply_systems(cp, xyz, systems)
         if missing:
             geo.exact = False
             note.append("coordinate systems CP " + ", ".join(map(str, missing)) + " were not applied "

@@ -5,11 +5,11 @@ Nothing here makes one Python object per node or element: counts come from
 """
 from __future__ import annotations
 
-import re
 import numpy as np
 
 from ...model import ElementBlock, ElementSet, Lazy, Loc, norm_key
 from .. import sampling
+from . import rows
 from .lex import KeywordLine, Reader, is_int
 
 #: nodes per element for types with more than 15 nodes (their elements span two lines);
@@ -18,120 +18,31 @@ LONG_TYPES = {"C3D20": 20, "C3D20R": 20, "C3D20RI": 20, "DC3D20": 20, "C3D20T": 
               "C3D15": 15, "DC3D15": 15, "F3D20": 20}
 MAX_INT_DIGITS = 10
 MAX_GENERATE = 50_000_000
-_COMMENT_LINE = re.compile(rb"(?m)^[ \t]*\*\*.*\n?")
-_BLANK_LINE = re.compile(rb"(?m)^[ \t,]*\n")
-_HAS_BLANK_LINE = re.compile(rb"(?:^|\n)[ \t,]*\n")
-_TRAILING = re.compile(rb",[ \t]*(?=\n)")
-_HAS_TRAILING = re.compile(rb",[ \t]*\n")
 
 
-def _clean(chunk: bytes) -> bytes:
-    """Comments, blank lines and trailing commas removed; D exponents as E; newline at the end."""
-    if b"**" in chunk:
-        chunk = _COMMENT_LINE.sub(b"", chunk)
-    if not chunk.endswith(b"\n"):
-        chunk += b"\n"
-    if _HAS_BLANK_LINE.search(chunk):           # the searches are fast scans; the substitutions are not
-        chunk = _BLANK_LINE.sub(b"", chunk)
-    if _HAS_TRAILING.search(chunk):
-        chunk = _TRAILING.sub(b"", chunk)
-    return chunk
+def numbers(chunk: bytes) -> np.ndarray:
+    """All comma/line separated numbers of a chunk as float64 (``rows``: any separator style;
+    blank fields read 0, a field that is not a number nan)."""
+    return rows.values(rows.compact(chunk))
 
 
-def _fast(chunk: bytes, dtype) -> "np.ndarray | None":
-    """The numbers of a chunk with no comment, blank line or trailing comma (None when it has any)."""
-    if b"*" in chunk or len(chunk) < 4096:
-        return None
-    flat = chunk.rstrip(b"\n").replace(b"\n", b",")
-    if dtype is float and (b"d" in flat or b"D" in flat):
-        return None
-    import warnings
-
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")
-        try:
-            arr = np.fromstring(flat, dtype=dtype, sep=",")
-        except ValueError:
-            return None
-    return arr if arr.size == flat.count(b",") + 1 else None
-
-
-def integers(chunk: bytes) -> np.ndarray:
-    """All comma/line separated integers of a chunk (int64; a field that is not an integer reads as 0)."""
-    arr = _fast(chunk, np.int64)
-    if arr is None:
-        arr = _fast(_clean(chunk), np.int64)
-    if arr is None:
-        arr = _to_int(numbers(chunk))
-    return arr
-
-
-def _to_int(arr: np.ndarray) -> np.ndarray:
-    """Floats as int64; nan and out-of-range values (not element or node numbers anyway) become 0."""
-    arr = np.where(np.isfinite(arr) & (np.abs(arr) < 2.0 ** 62), arr, 0.0)
-    return arr.astype(np.int64)
-
-
-def numbers(chunk: bytes, cleaned: bool = False) -> np.ndarray:
-    """All comma/line separated numbers of a chunk as float64 (nan where a field is not a number)."""
-    arr = _fast(chunk, float)
-    if arr is not None:
-        return arr
-    if not cleaned:
-        chunk = _clean(chunk)
-    if not chunk.strip():
-        return np.zeros(0)
-    if b"d" in chunk or b"D" in chunk:
-        chunk = chunk.replace(b"D", b"E").replace(b"d", b"e")
-    flat = chunk.replace(b"\n", b",").rstrip(b",")
-    arr = None
-    if len(flat) < 4096:
-        try:
-            arr = np.array(flat.split(b","), dtype=float)
-        except ValueError:
-            arr = None
-    else:
-        import warnings
-
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore")
-            try:
-                arr = np.fromstring(flat, dtype=float, sep=",")
-            except ValueError:
-                arr = None
-        if arr is not None and arr.size != flat.count(b",") + 1:
-            arr = None
-    if arr is None:                                  # a field that is not a number: slow exact path
-        out = []
-        for f in flat.split(b","):
-            try:
-                out.append(float(f))
-            except ValueError:
-                out.append(np.nan)
-        arr = np.array(out, dtype=float)
-    return arr
-
-
-def _ints(data: bytes, start: int, end: int, width: int, per_line: bool) -> np.ndarray:
-    """(elements, width) int64 table: id and nodes. ``per_line``: one element per data line, as ccx reads
-    types of up to 15 nodes (fields after the last node are not read)."""
+def _ints(data: bytes, start: int, end: int, width: int, count: int, per_line: bool) -> np.ndarray:
+    """(elements, width) int64 table: number and nodes, grouped into elements as CalculiX does
+    (``rows``). ``per_line`` (the first line holds a whole element): ``count`` rows, one per data
+    line, when CalculiX's grouping does not give that many (fields after the last node are not read)."""
     width = max(width, 1)
-    chunk = data[start:end]
-    arr = integers(chunk)
-    lines = None
-    if per_line:
-        n_lines = chunk.count(b"\n") + (0 if chunk.endswith(b"\n") else 1)
-        if n_lines * width != arr.size:
-            lines = _clean(chunk)
-            lines = lines if lines.count(b"\n") * width != arr.size else None
-    if lines is not None:                     # ragged lines: the first ``width`` fields of each
-        rows = [numbers(line) for line in lines.split(b"\n") if line.strip()]
-        tab = np.zeros((len(rows), width))
-        for i, r in enumerate(rows):
-            tab[i, : min(width, r.size)] = r[:width]
-        arr = _to_int(tab).ravel()
-    arr = arr[: arr.size - arr.size % width]
-    return arr.reshape(-1, width)
+    tabs = [t for t, _inc in rows.element_tables(data, start, end, width)]
+    tab = np.concatenate(tabs) if len(tabs) > 1 else tabs[0] if tabs else np.zeros((0, width), dtype=np.int64)
+    if per_line and tab.shape[0] != count:       # a short line further down: one element per line anyway
+        c = rows.compact(data[start:end])
+        cnt = rows.fields_per_line(c)
+        vals = rows.values(c, integer=True)
+        first = np.cumsum(cnt) - cnt
+        tab = np.zeros((cnt.size, width), dtype=np.int64)
+        for j in range(width):
+            has = cnt > j
+            tab[has, j] = vals[first[has] + j]
+    return tab
 
 
 def read_element(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: int, dialect: str,
@@ -150,22 +61,24 @@ def read_element(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: 
             nodes = int(getattr(entry, "nodes", 0) or 0)
     if not nodes:
         nodes = LONG_TYPES.get(etype, 0)
-    first = next(rd.lines(start, min(end, start + 4096), first_line), None)
-    spans = nodes > 15 or (first is not None and nodes and len(first.fields) < nodes + 1)
-    if spans:                        # elements continue on the next line: count the numbers
-        vals = numbers(rd.data[start:end])
-        count = int(vals.size // (nodes + 1))
-        if vals.size % (nodes + 1):
-            rd.issue("truncated", f"*ELEMENT, TYPE={etype_w}: {vals.size} numbers are not a whole number of "
-                     f"elements of {nodes} nodes", kw.loc.line, type=etype)
-    else:
-        count = nlines
+    first = rows.first_fields(rd.data, start, min(end, start + 4096))
+    spans = bool(nodes) and first is not None and first < nodes + 1
+    count = nlines
+    if not spans:
         if not nodes and first is not None:
-            nodes = max(0, len(first.fields) - 1)
+            nodes = max(0, first - 1)
+        # the usual layouts (one element per line, with or without a trailing comma) pass this test;
+        # otherwise some line is not one element: group the lines as CalculiX does
+        spans = bool(nodes) and rd.data.count(b",", start, end) not in (nlines * nodes, nlines * (nodes + 1))
+    if spans:                        # elements continue on the next lines (grouped as CalculiX does)
+        count, incomplete = rows.element_count(rd.data, start, end, nodes + 1)
+        if incomplete:
+            rd.issue("truncated", f"*ELEMENT, TYPE={etype_w}: the last element of the block has fewer than "
+                     f"{nodes} nodes (CalculiX: element definition incomplete)", kw.loc.line, type=etype)
     width = nodes + 1
     data = rd.data
     per_line = not spans
-    table = Lazy(lambda: _ints(data, start, end, width, per_line))
+    table = Lazy(lambda: _ints(data, start, end, width, count, per_line))
     elset_w = kw.get("ELSET")
     blk = ElementBlock(type=etype, type_as_written=etype_w, count=count, loc=kw.loc,
                        elset=norm_key(elset_w) if elset_w else None, nodes=nodes,
@@ -276,23 +189,7 @@ def read_node(rd: Reader, kw: KeywordLine, start: int, end: int, model, nlines: 
 
 def _node_table(chunk: bytes) -> np.ndarray:
     """(n, 4) array id, x, y, z (missing coordinates are 0, as ccx reads them)."""
-    arr = _fast(chunk, float)                      # succeeds only on a chunk that needs no cleaning
-    if arr is None:
-        chunk = _clean(chunk)
-        arr = numbers(chunk, cleaned=True)
-    nl = chunk.find(b"\n")
-    width = chunk[: nl if nl >= 0 else len(chunk)].count(b",") + 1
-    n_lines = chunk.count(b"\n") + (0 if chunk.endswith(b"\n") or not chunk else 1)
-    if width >= 2 and arr.size == n_lines * width:
-        tab = arr.reshape(-1, width)
-    else:                                            # ragged lines
-        rows = [numbers(line) for line in chunk.split(b"\n") if line.strip()]
-        tab = np.zeros((len(rows), max((len(r) for r in rows), default=1)))
-        for i, r in enumerate(rows):
-            tab[i, : len(r)] = r
-    out = np.zeros((tab.shape[0], 4))
-    out[:, : min(4, tab.shape[1])] = tab[:, :4]
-    return out
+    return rows.node_table(rows.compact(chunk))
 
 
 def _node_sample(data: bytes, start: int, end: int, n_lines: int) -> np.ndarray:
@@ -302,6 +199,6 @@ def _node_sample(data: bytes, start: int, end: int, n_lines: int) -> np.ndarray:
 
 
 def _all_nodes(ranges) -> tuple[np.ndarray, np.ndarray]:
-    tabs = [_node_table(d[s:e]) for d, s, e in ranges]
+    tabs = [rows.node_table(c) for d, s, e in ranges for c, _last in rows.pieces(d, s, e)]
     tab = np.concatenate(tabs) if tabs else np.zeros((0, 4))
-    return _to_int(tab[:, 0]), tab[:, 1:]
+    return rows.to_int(tab[:, 0]), tab[:, 1:]
