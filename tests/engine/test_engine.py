@@ -115,7 +115,8 @@ def test_incompleteness_is_declared_on_the_rules():
     assert declared == {
         "internal/rule-failed", "internal/parser-failed", "internal/derive-failed", "internal/plugin-failed",
         "parse/include-refused", "parse/include-unreadable", "parse/file-unreadable", "parse/binary-file",
-        "parse/file-too-large", "parse/not-a-deck", "parse/path-not-found", "parse/no-deck-found"}
+        "parse/file-too-large", "parse/not-a-deck", "parse/path-not-found", "parse/no-deck-found",
+        "parse/missing-include"}
 
 
 def test_a_plugin_rule_may_declare_that_its_finding_makes_the_check_incomplete():
