@@ -132,9 +132,9 @@ def check_paths(paths: list[str], config: Optional[Config] = None, jobs: Optiona
                 return pool.map(fn, items, chunksize=max(1, len(items) // (jobs * 8)))
 
             decks = _no_deck_check(discover(paths, result, config, mapper), result, paths)
-            result.files = list(mapper(_check_one, [(p, fmt, config, policy) for p, fmt in decks]))
+            result.files = list(mapper(_check_one, [(p, fmt, config.for_path(p), policy) for p, fmt in decks]))
     else:
         decks = _no_deck_check(discover(paths, result, config), result, paths)
-        result.files = [_check_one((p, fmt, config, policy)) for p, fmt in decks]
+        result.files = [_check_one((p, fmt, config.for_path(p), policy)) for p, fmt in decks]
     result.incomplete = registry.makes_incomplete(result.general) or any(f.incomplete for f in result.files)
     return result

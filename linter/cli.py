@@ -41,22 +41,17 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("paths", nargs="+", metavar="PATH", help="deck files or folders to walk")
     c.add_argument("--format", "-f", choices=FORMATS, default="text", help="report format (default: text)")
     c.add_argument("--output", "-o", metavar="FILE", help="write the report to FILE instead of standard output")
-    c.add_argument("--fail-on", choices=LEVELS, help="lowest severity that makes the exit code 1 (default: error)")
-    c.add_argument("--config", metavar="FILE", help="configuration file (default: deckwarden.yaml found upwards)")
-    c.add_argument("--dialect", action="append", default=[], metavar="NAME|FORMAT=NAME",
-                   help="solver dialect for every format, or for one format (repeatable)")
-    c.add_argument("--solver-cwd", metavar="DIR", help="resolve keyword includes from this run folder")
-    c.add_argument("--include-root", metavar="DIR", help="includes may not resolve outside this folder")
-    c.add_argument("--allow-include-outside", action="store_true", help="allow includes anywhere")
-    c.add_argument("--units", metavar="SYSTEM", help="declare the unit system instead of inferring it")
+    _config_options(c)
     c.add_argument("--materials", metavar="FILE",
                    help="material file (deckwarden: 1) for the mesh files given (Gmsh, VTK, XDMF, MED ...)")
-    c.add_argument("--select", action="append", default=[], metavar="ID|FAMILY",
-                   help="run only these rules or families (repeatable, or comma-separated)")
-    c.add_argument("--ignore", action="append", default=[], metavar="ID|FAMILY",
-                   help="skip these rules or families (repeatable, or comma-separated)")
-    c.add_argument("--jobs", "-j", type=_positive_int, metavar="N", help="check files in N processes")
     c.add_argument("--no-color", action="store_true", help="no colour in the text report")
+
+    g = sub.add_parser("config", help="show the effective configuration and where each value comes from",
+                       description="Print the configuration a check of PATH would use: every value and its "
+                                   "origin (default, file and key, command-line option).")
+    g.add_argument("paths", nargs="*", metavar="PATH", help="where the check would start (default: .)")
+    _config_options(g)
+    g.add_argument("--format", "-f", choices=("text", "json"), default="text")
 
     r = sub.add_parser("rules", help="list the rules", description="List every registered rule.")
     r.add_argument("--format", "-f", choices=("text", "markdown", "json"), default="text")
@@ -65,6 +60,51 @@ def build_parser() -> argparse.ArgumentParser:
                        description="Show a rule's title, default severity, rationale, references and data.")
     e.add_argument("rule", metavar="RULE", help="a rule id (family/name) or a family")
     return p
+
+
+class _LazyHelp(str):
+    """A help text computed only when the help is shown (the lists come from data files)."""
+
+    def __new__(cls, fn):
+        obj = super().__new__(cls, "(computed)")
+        obj.fn = fn
+        return obj
+
+    def __mod__(self, params):
+        return self.fn() % params
+
+
+def _units_help() -> str:
+    from .configfile import unit_systems_text
+
+    return "declare the unit system instead of inferring it: " + unit_systems_text().replace("%", "%%")
+
+
+def _dialect_help() -> str:
+    from .configfile import listing
+
+    return ("solver dialect for every format that has it, or for one format (repeatable); "
+            + listing().replace("%", "%%"))
+
+
+def _config_options(c) -> None:
+    """The options that change the configuration (shared by ``check`` and ``config``)."""
+    c.add_argument("--fail-on", choices=LEVELS, help="lowest severity that makes the exit code 1 (default: error)")
+    c.add_argument("--config", metavar="FILE",
+                   help="configuration file: deckwarden.yaml or a pyproject.toml with [tool.deckwarden] "
+                        "(default: the nearest one from the first path upwards)")
+    c.add_argument("--dialect", action="append", default=[], metavar="NAME|FORMAT=NAME",
+                   help=_LazyHelp(_dialect_help))
+    c.add_argument("--solver-cwd", metavar="DIR", help="resolve keyword includes from this run folder")
+    c.add_argument("--include-root", metavar="DIR", help="includes may not resolve outside this folder")
+    c.add_argument("--allow-include-outside", action="store_true", help="allow includes anywhere")
+    c.add_argument("--units", metavar="SYSTEM", help=_LazyHelp(_units_help))
+    c.add_argument("--select", action="append", default=[], metavar="ID|FAMILY",
+                   help="run only these rules or families (repeatable, or comma-separated)")
+    c.add_argument("--ignore", action="append", default=[], metavar="ID|FAMILY",
+                   help="skip these rules or families (repeatable, or comma-separated)")
+    c.add_argument("--jobs", "-j", type=_positive_int, metavar="N",
+                   help="check files in N processes (default: the processors this process may use)")
 
 
 def _positive_int(text: str) -> int:
@@ -86,39 +126,56 @@ def _split(items: Sequence[str]) -> list[str]:
 
 def _config(args):
     from .config import Config, ConfigError
+    from .configfile import check_dialect, check_units
 
+    paths = list(args.paths) or ["."]
     try:
-        cfg = Config.load(args.config, start=args.paths[0] if os.path.exists(args.paths[0]) else None)
+        cfg = Config.load(args.config, start=paths[0] if os.path.exists(paths[0]) else None)
     except ConfigError as exc:
         raise UsageError(str(exc)) from None
+    origins = cfg.origins
+    if args.config:
+        origins["(file)"] = f"--config {args.config}"
     if args.fail_on:
         cfg.fail_on = args.fail_on
+        origins["fail_on"] = "--fail-on"
+
+    def bad(prefix):
+        def fail(*rest):
+            raise UsageError(f"{prefix}: {rest[-1]}")
+        return fail
+
     for item in args.dialect:
         if "=" in item:
             fmt, _, name = item.partition("=")
             if not fmt.strip() or not name.strip():
                 raise UsageError(f"--dialect {item!r}: expected NAME or FORMAT=NAME")
-            from . import parsers
-
-            if fmt.strip().lower() not in parsers.names():
-                raise UsageError(f"--dialect {item!r}: unknown format {fmt.strip()!r} "
-                                 f"(formats: {', '.join(parsers.names())})")
+            check_dialect({fmt.strip().lower(): name.strip()}, bad(f"--dialect {item!r}"))
             cfg.dialects[fmt.strip().lower()] = name.strip().lower()
         elif item.strip():
-            cfg.dialects = {k: item.strip().lower() for k in cfg.dialects}
+            from .configfile import dialects_by_format
+
+            check_dialect(item.strip(), bad(f"--dialect {item!r}"))
+            name = item.strip().lower()
+            cfg.dialects.update({f: name for f, ds in dialects_by_format().items() if name in ds})
         else:
             raise UsageError("--dialect: empty name")
+        origins["dialect"] = "--dialect"
     for opt, attr in (("solver_cwd", "solver_cwd"), ("include_root", "include_root")):
         value = getattr(args, opt)
         if value is not None:
             if not os.path.isdir(value):
                 raise UsageError(f"--{opt.replace('_', '-')} {value}: not a folder")
             setattr(cfg, attr, os.path.abspath(value))
+            origins[attr] = f"--{opt.replace('_', '-')}"
     if args.allow_include_outside:
         cfg.allow_include_outside = True
+        origins["allow_include_outside"] = "--allow-include-outside"
     if args.units:
+        check_units(args.units, bad(f"--units {args.units!r}"))
         cfg.units = args.units
-    if args.materials:
+        origins["units"] = "--units"
+    if getattr(args, "materials", None):
         if not os.path.isfile(args.materials):
             raise UsageError(f"--materials {args.materials}: not a file")
         folders = [p for p in args.paths if os.path.isdir(p)]
@@ -129,9 +186,25 @@ def _config(args):
     _check_rule_names(select + ignore)
     if select:
         cfg.select = select
+        origins["select"] = "--select"
     if ignore:
         cfg.ignore = list(cfg.ignore) + ignore
+        origins["ignore"] = "--ignore" + (" (added to the file's list)" if "ignore" in origins else "")
+    if args.jobs:
+        cfg.jobs = args.jobs
+        origins["jobs"] = "--jobs"
+    elif "jobs" not in origins:
+        cfg.jobs = available_cpus()
+        origins["jobs"] = "default (the processors this process may use)"
     return cfg
+
+
+def available_cpus() -> int:
+    """The processors this process may run on (not the machine's count)."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except (AttributeError, OSError):  # not Linux
+        return max(1, os.cpu_count() or 1)
 
 
 def _check_rule_names(names: list[str]) -> None:
@@ -147,11 +220,9 @@ def _check_rule_names(names: list[str]) -> None:
 
 
 def _suggest(name: str, known) -> str:
-    import difflib
+    from .configfile import closest
 
-    close = difflib.get_close_matches(name, sorted(known), n=3, cutoff=0.6)
-    close += [k for k in sorted(known) if "/" in k and k.split("/", 1)[1] == name and k not in close]
-    return f"; did you mean: {', '.join(close[:4])}?" if close else ""
+    return closest(name, known)
 
 
 def _inputs(result) -> set[str]:
@@ -171,7 +242,7 @@ def cmd_check(args) -> int:
     cfg = _config(args)
     if args.output and os.path.realpath(args.output) in {os.path.realpath(p) for p in args.paths}:
         raise UsageError(f"--output {args.output}: is one of the paths to check; deckwarden never writes its input")
-    result = check_paths(list(args.paths), cfg, jobs=args.jobs)
+    result = check_paths(list(args.paths), cfg, jobs=cfg.jobs)
     code = exit_code(result, cfg.fail_on)
     opts = reporters.ReportOptions(color=False if (args.no_color or args.output) else None,
                                    fail_on=cfg.fail_on, exit_code=code)
@@ -288,6 +359,10 @@ def main(argv: Optional[Sequence[str]] = None) -> int:
         if args.command is None:
             build_parser().print_help(sys.stderr)
             return EXIT_USAGE
+        if args.command == "config":
+            from .configshow import cmd_config
+
+            return cmd_config(args, _config(args))
         return {"check": cmd_check, "rules": cmd_rules, "explain": cmd_explain}[args.command](args)
     except UsageError as exc:
         print(f"deckwarden: error: {exc}", file=sys.stderr)

@@ -16,6 +16,12 @@ current folder or above it, or named with ``--config``. Keys::
     max_include_depth: 16
     max_file_size_mb: 4096
     jobs: 1
+    exclude: [generated/**, "*.bak.inp"]   # globs (relative to this file) left out of folder walks
+    per_path:                 # globs with their own rule choices
+      - {paths: [legacy/**], rules: {units/mismatch: warning}, ignore: [parse/empty-field]}
+
+The same keys may sit in ``[tool.deckwarden]`` of a ``pyproject.toml``. Discovery, validation and
+the origin of every value: :mod:`linter.configfile`.
 """
 from __future__ import annotations
 
@@ -27,15 +33,12 @@ from importlib import resources
 from pathlib import Path
 from typing import Any, Optional
 
+from . import configfile
+from .configfile import ConfigError  # noqa: F401  (re-exported)
 from .findings import SEVERITIES
-from .safe_yaml import load_package_yaml, load_yaml_file
+from .safe_yaml import load_package_yaml
 
-CONFIG_NAMES = ("deckwarden.yaml", ".deckwarden.yaml")
 DEFAULT_DIALECTS = {"keyword": "calculix", "bulk": "mystran", "mesh": "meshio", "aster": "code_aster"}
-
-
-class ConfigError(ValueError):
-    pass
 
 
 @functools.cache
@@ -69,10 +72,16 @@ class Config:
     max_include_depth: int = 16
     max_file_size_mb: float = 4096.0
     jobs: int = 1
+    #: glob patterns (relative to the configuration file) that folder walks leave out
+    exclude: list[str] = field(default_factory=list)
+    #: [{"paths": [globs], "rules": {...}, "select": [...], "ignore": [...]}]: settings for some decks
+    per_path: list[dict] = field(default_factory=list)
     #: material file for the meshes given on the command line (``--materials``); not a configuration key
     materials: Optional[str] = None
     #: the file this configuration came from (None: defaults)
     source: Optional[str] = None
+    #: key -> where its value came from (file and line, or a command-line option); absent: the default
+    origins: dict[str, str] = field(default_factory=dict)
 
     # -- queries used by the engine ------------------------------------------------------
 
@@ -105,15 +114,48 @@ class Config:
     def max_file_size(self) -> int:
         return int(self.max_file_size_mb * 1024 * 1024)
 
+    def _rel(self, path: str) -> str:
+        return configfile.relative_to(path, os.path.dirname(self.source) if self.source else os.getcwd())
+
+    def excluded(self, path: str) -> bool:
+        """Does an ``exclude`` glob match ``path``?"""
+        if not self.exclude:
+            return False
+        return configfile.matches([configfile.glob_regex(g) for g in self.exclude], self._rel(path))
+
+    def for_path(self, path: str) -> "Config":
+        """The configuration for one deck: ``per_path`` entries whose globs match it, applied in order."""
+        if not self.per_path:
+            return self
+        rel, out = self._rel(path), None
+        for entry in self.per_path:
+            globs = entry["paths"] if isinstance(entry["paths"], list) else [entry["paths"]]
+            if not configfile.matches([configfile.glob_regex(g) for g in globs], rel):
+                continue
+            out = out or copy.copy(self)
+            if "rules" in entry:
+                out.rules = {**out.rules, **{str(k): ("off" if v is False else str(v).lower())
+                                             for k, v in entry["rules"].items()}}
+            for key in ("select", "ignore"):
+                if key in entry:
+                    val = entry[key]
+                    setattr(out, key, list(getattr(out, key)) + ([val] if isinstance(val, str) else list(val)))
+        return out or self
+
     # -- construction --------------------------------------------------------------------
 
     @classmethod
-    def from_mapping(cls, data: dict[str, Any], source: Optional[str] = None) -> "Config":
+    def from_mapping(cls, data: dict[str, Any], source: Optional[str] = None,
+                     label: Optional[str] = None, lines: Optional[dict] = None) -> "Config":
         if data is None:
             data = {}
         if not isinstance(data, dict):
             raise ConfigError(f"{source or 'configuration'}: the top level must be a mapping")
+        configfile.check_mapping(data, label or source or "configuration", lines)
         cfg = cls(source=source)
+        for key in data:
+            line = (lines or {}).get((str(key),))
+            cfg.origins[str(key)] = f"{label or source or 'configuration'}" + (f", line {line}" if line else "")
         known = set(cls.__dataclass_fields__) - {"source", "dialects"} | {"dialect"}
         unknown = set(data) - known
         if unknown:
@@ -121,7 +163,9 @@ class Config:
         for key, value in data.items():
             if key == "dialect":
                 if isinstance(value, str):
-                    cfg.dialects = {k: value for k in DEFAULT_DIALECTS}
+                    known = configfile.dialects_by_format()
+                    cfg.dialects.update({f: value.strip().lower() for f, ds in known.items()
+                                         if value.strip().lower() in ds})
                 elif isinstance(value, dict):
                     cfg.dialects.update({str(k): str(v) for k, v in value.items()})
                 else:
@@ -134,7 +178,7 @@ class Config:
                 if not isinstance(value, dict):
                     raise ConfigError(f"{source}: 'rules' must map rule ids to a severity or off")
                 cfg.rules = {str(k): ("off" if v is False else str(v).lower()) for k, v in value.items()}
-            elif key in ("select", "ignore"):
+            elif key in ("select", "ignore", "exclude"):
                 setattr(cfg, key, [value] if isinstance(value, str) else [str(v) for v in value or ()])
             else:
                 setattr(cfg, key, value)
@@ -148,28 +192,15 @@ class Config:
 
     @classmethod
     def load(cls, path: Optional[str] = None, start: Optional[str] = None) -> "Config":
-        """Load ``path``, or the first configuration file found from ``start`` (default: cwd) upwards."""
+        """Load ``path``, or the nearest configuration found from ``start`` (default: cwd) upwards."""
         if path is None:
-            found = find_config(start or os.getcwd())
+            found = configfile.find_config(start or os.getcwd())
             if found is None:
                 return cls()
             path = str(found)
-        try:
-            data = load_yaml_file(path)
-        except OSError as exc:
-            raise ConfigError(f"{path}: cannot read the configuration ({exc.strerror or exc})") from None
-        except ValueError as exc:
-            raise ConfigError(str(exc)) from None
-        return cls.from_mapping(data or {}, source=str(path))
+        data, lines, label = configfile.read_config(path)
+        return cls.from_mapping(data, source=str(path), label=label, lines=lines)
 
 
 def find_config(start: str) -> Optional[Path]:
-    here = Path(start).resolve()
-    if here.is_file():
-        here = here.parent
-    for folder in (here, *here.parents):
-        for name in CONFIG_NAMES:
-            cand = folder / name
-            if cand.is_file():
-                return cand
-    return None
+    return configfile.find_config(start)

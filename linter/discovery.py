@@ -69,7 +69,8 @@ def discover(paths: list[str], result: RunResult, config: Config, mapper=map) ->
             result.general.append(general_finding("parse/path-not-found", f"{p}: no such file or folder", p))
             continue
         if os.path.isdir(p):
-            files = [f for f in _walk(p, result) if os.path.splitext(f)[1].lower() in exts]
+            files = [f for f in _walk(p, result) if os.path.splitext(f)[1].lower() in exts
+                     and not config.excluded(f)]
             for f, (fmt, err) in zip(files, mapper(_detect_task, files)):
                 if err:
                     result.general.append(general_finding("parse/file-unreadable", f"{f}: cannot read the file ({err})", f))

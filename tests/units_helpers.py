@@ -52,6 +52,7 @@ def run(m, units=None):
     from linter.derived.units import derive_units
     from linter.runner import run_rules
 
-    cfg = Config.from_mapping({"select": ["units"], **({"units": units} if units else {})})
+    cfg = Config.from_mapping({"select": ["units"]})
+    cfg.units = units     # set directly: a configuration file refuses an unknown system before any check
     derive_units(m, cfg)
     return run_rules(m, cfg)

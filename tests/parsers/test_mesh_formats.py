@@ -265,3 +265,38 @@ def test_mesh_given_beside_the_material_file(tmp_path):
     model = mesh_parser.parse(str(tmp_path / "other.vtu"), opts)
     assert not model.issues
     assert element_types_of(model, "SEAL") == {"TETRA:REDUCED": 24}
+
+
+def test_overlapping_regions_with_different_materials(tmp_path):
+    meshio.write(tmp_path / "m.vtu", plain(block_mesh()))
+    model = parse(material_file(tmp_path, "m.vtu", {0: ("{all: true}", "STEEL"),
+                                                    1: ("{cell_data: region, value: 1}", "SEAL")}))
+    (iss,) = [i for i in model.issues if i.code == "region-overlap"]
+    assert iss.data["cells"] == 12 and iss.loc.line == 10    # block_mesh: 12 hexahedra in region 1
+    # both regions count the shared cells; the last region gives them its formulation
+    assert element_types_of(model, "SEAL") == {"HEXAHEDRON:REDUCED": 12}
+    assert element_types_of(model, "STEEL") == {"HEXAHEDRON:REDUCED": 24, "TETRA:REDUCED": 24}
+
+
+def test_more_than_eight_regions_on_one_block(tmp_path):
+    m = plain(block_mesh())
+    hexes = m.cells[1].data
+    m.cell_data["region"][1] = np.arange(len(hexes)) % 10 + 100       # ten values over the 24 hexahedra
+    meshio.write(tmp_path / "m.vtu", m)
+    selectors = {v: (f"{{cell_data: region, value: {v}}}", "STEEL") for v in range(100, 110)}
+    model = parse(material_file(tmp_path, "m.vtu", selectors))
+    got = counts_by_region(model)
+    # reference: numpy's count of each value in the array written
+    expected = {i + 1: {"hexahedron": int(np.sum(np.arange(len(hexes)) % 10 == i))} for i in range(10)}
+    assert got == expected
+
+
+def test_section_kind_gives_the_family_of_surface_cells(tmp_path):
+    pts = np.array([[0, 0, 0], [1, 0, 0], [1, 1, 0], [0, 1, 0]], float)
+    meshio.write(tmp_path / "m.vtu", meshio.Mesh(pts, [("quad", np.array([[0, 1, 2, 3]]))]))
+    (tmp_path / "model.yaml").write_text(
+        "deckwarden: 1\nmesh: m.vtu\nmaterials:\n  A: {elastic: {E: 10, nu: 0.499}}\n"
+        "regions:\n  - {cells: {all: true}, material: A, section: shell}\n")
+    model = parse(tmp_path / "model.yaml")
+    assert element_types_of(model, "A") == {"QUAD:SHELL": 1}
+    assert model.sections[0].kind == "shell" and model.sections[0].materials[0].role == "shell"

@@ -180,7 +180,8 @@ def _check(path, units=None):
     from linter.check import check_paths
     from linter.config import Config
 
-    cfg = Config.from_mapping({"select": ["units"], **({"units": units} if units else {})})
+    cfg = Config.from_mapping({"select": ["units"]})
+    cfg.units = units     # set directly: a configuration file refuses an unknown system before any check
     res = check_paths([str(path)], cfg)
     assert len(res.files) == 1
     return res.files[0]

@@ -8,6 +8,8 @@ from .. import reader_attributes
 FORMAT = "keyword"
 EXTENSIONS = (".inp",)
 DEFAULT_DIALECT = "calculix"
+#: dialects the element catalogue and the rules know for this format
+DIALECTS = ("calculix",)
 #: markers of a comment line: ``**`` in columns 1-2, the whole line is skipped; no end-of-line comments
 #: (CalculiX CrunchiX User's Manual, section "Cantilever beam"; ccx source ``readinput.c``)
 COMMENT_PREFIXES = ("**",)

@@ -131,12 +131,8 @@ def assign(doc: Doc, mesh, regions: list[Region], mesh_loc: Loc, mesh_name: str,
             model.element_sets[regions[members[0][0]].key].blocks.append(len(model.element_blocks) - 1)
             offset += n
             continue
-        bits = np.stack([m for _r, m in members])                 # (regions here, cells)
-        combos, inverse = np.unique(np.packbits(bits, axis=0).T, axis=0, return_inverse=True)
-        inverse = np.asarray(inverse).ravel()
-        for k in range(len(combos)):
-            here = [members[j][0] for j in np.flatnonzero(np.unpackbits(combos[k])[:len(members)])]
-            idx = np.flatnonzero(inverse == k)
+        for bits_k, idx in _combinations([m for _r, m in members]):
+            here = [members[j][0] for j in np.flatnonzero(bits_k)]
             if not here and dims[b] < top:
                 boundary[cb.type] = boundary.get(cb.type, 0) + idx.size
                 continue
@@ -167,6 +163,24 @@ def assign(doc: Doc, mesh, regions: list[Region], mesh_loc: Loc, mesh_name: str,
     for cb in mesh.cells:
         cells[cb.type] = cells.get(cb.type, 0) + len(cb.data)
     return {"cells": cells, "boundary_cells": boundary, "dimension": top}
+
+
+def _combinations(masks: list[np.ndarray]):
+    """(which masks, cell indices) for every combination of masks that occurs, cells in order.
+
+    Up to 8 masks a cell's combination is one byte (``packbits``), counted with ``bincount``;
+    beyond that the byte rows are made unique."""
+    packed = np.packbits(np.stack(masks), axis=0)              # (ceil(masks / 8), cells)
+    n = len(masks)
+    if packed.shape[0] == 1:
+        codes = packed[0]
+        for code in np.flatnonzero(np.bincount(codes, minlength=256)):
+            yield np.unpackbits(np.array([code], dtype=np.uint8))[:n], np.flatnonzero(codes == code)
+        return
+    combos, inverse = np.unique(packed.T, axis=0, return_inverse=True)
+    inverse = np.asarray(inverse).ravel()
+    for k in range(len(combos)):
+        yield np.unpackbits(combos[k])[:n], np.flatnonzero(inverse == k)
 
 
 def _add_block(model: DeckModel, cb, reg: Optional[Region], idx: Optional[np.ndarray], count: int, offset: int,
