@@ -4,20 +4,39 @@ The unit system is inferred from the whole model (or declared with ``--units`` /
 by ``linter.derived.units``; see ``linter.derived.units.infer`` for the score and confidence, and
 ``linter.derived.units.diagnose`` for how a disagreement is attributed to a quantity.
 """
+from dataclasses import replace
+
 from linter.registry import rule
 
 REFS = ("physics.md 5.1-5.5 (dimensions, systems, invariants, handbook values)",
         "CalculiX CrunchiX User's Manual, section Units")
 
 
-def _problems(model, kind):
+def _problems(model, kind, ctx=None):
+    """The diagnosed problems of one kind. When the system was inferred with low confidence, the finding
+    says which system it assumed and how sure that is; when the runner-up system would not raise it (the
+    guess decides the finding), an error becomes a warning: a guess is not firm enough to fail a gate."""
+    us = model.derived.get("unit_system") or {}
+    floor = float(ctx.threshold("units.min_confidence")) if ctx is not None else 0.0
+    conf = us.get("inferred_confidence", 0.0)
+    guess = not us.get("declared") and us.get("name") and conf < floor
     for p in model.derived.get("units_problems", ()):
-        if p.kind == kind:
-            yield p
+        if p.kind != kind:
+            continue
+        if guess:
+            name = us["name"]
+            decided = bool(p.data.get("decided_by_guess"))
+            p = replace(p, severity="warning" if p.severity == "error" and decided else p.severity,
+                        message=f"{p.message} [assumed unit system {name}, inferred with confidence {conf:.2f}; "
+                                f"declare it with --units {name} or 'units: {name}' in deckwarden.yaml]",
+                        data={**p.data, "assumed": name, "confidence": conf})
+        yield p
 
 
 @rule("units/mismatch", severity="error",
-      escalation="note when no element uses the material or no analysis of the deck reads the quantity", title="Values of one model written in different unit systems",
+      escalation="warning when the unit system was inferred with low confidence (the finding names the system "
+                 "assumed); note when no element uses the material or no analysis of the deck reads the quantity",
+      title="Values of one model written in different unit systems",
       rationale="The solver has no units: a material whose moduli are in MPa and density in kg/m^3, or one "
                 "material pasted in Pa into an MPa model, gives masses, frequencies or stiffness wrong by "
                 "powers of ten without any message. The quantity that no single system explains is named "
@@ -28,7 +47,7 @@ def _problems(model, kind):
            "reference system; class: material class judged from the values; write: value per quantity in "
            "the reference system")
 def mismatch(model, ctx):
-    for p in _problems(model, "mismatch"):
+    for p in _problems(model, "mismatch", ctx):
         yield ctx.finding(p.message, p.loc, material=p.material, data=p.data, severity=p.severity,
                           defect=("units", p.material, tuple(p.data.get("quantities", ()))))
 
@@ -42,7 +61,7 @@ def mismatch(model, ctx):
       references=REFS,
       data="quantity; value_si; band (SI); class; system; decades outside the band")
 def implausible(model, ctx):
-    for p in _problems(model, "implausible"):
+    for p in _problems(model, "implausible", ctx):
         yield ctx.finding(p.message, p.loc, material=p.material, data=p.data, severity=p.severity)
 
 
@@ -52,7 +71,7 @@ def implausible(model, ctx):
       references=REFS + ("physics.md 5.3 (gravity fixes L/T^2)",),
       data="value; fits: systems it fits; model: reference system; expected: value to write")
 def gravity(model, ctx):
-    for p in _problems(model, "gravity"):
+    for p in _problems(model, "gravity", ctx):
         yield ctx.finding(p.message, p.loc, data=p.data, severity=p.severity)
 
 
@@ -88,5 +107,7 @@ def undetermined(model, ctx):
         yield ctx.finding(
             f"the unit system is uncertain: {us.get('inferred')} fits best, {us.get('runner_up')} nearly as "
             f"well (confidence {conf:.2f} < {floor}); evidence: {', '.join(us.get('evidence', ()))}. "
-            f"Declare it with --units to check against it", None,
+            f"Declare it to check against it: --units {us.get('inferred')} on the command line or "
+            f"'units: {us.get('inferred')}' in deckwarden.yaml (known systems: deckwarden explain units/undetermined)",
+            None,
             data={k: us.get(k) for k in ("inferred", "runner_up", "margin", "evidence")} | {"confidence": conf})

@@ -8,7 +8,11 @@ warning "card image cannot be interpreted", together with its data lines.
 from __future__ import annotations
 
 import difflib
+import re
 from typing import Optional
+
+#: a "keyword" that is a number (``*5e8,0``): a data line written with a leading '*'
+STRAY_DATA = re.compile(r"[-+.]?\d")
 
 CALCULIX_KEYWORDS = frozenset("""
 AMPLITUDE BASEMOTION BEAMGENERALSECTION BEAMSECTION BOUNDARY BOUNDARYF BUCKLE CFD CFLUX CHANGECONTACTTYPE
@@ -61,3 +65,26 @@ def closest(key: str) -> Optional[str]:
     """The known keyword nearest to ``key`` (squeezed), or None when none is near."""
     near = difflib.get_close_matches(key, CALCULIX_KEYWORDS, n=1, cutoff=0.75)
     return near[0] if near else None
+
+
+def report_unknown(rd, kw, raw: bytes, prev, issues: list, dialect: str, material: Optional[str]) -> None:
+    """A keyword the solver does not know: a data line with a stray '*' (reported at its own line, folding
+    the "no data line" of the card above it), or a misspelling (with the nearest known keyword)."""
+    if STRAY_DATA.match(kw.key):
+        before = ""
+        if prev is not None and issues and issues[-1].code == "malformed-data" \
+                and issues[-1].loc == prev.loc and "has no data line" in issues[-1].message:
+            issues.pop()          # the card above lacks its data because of this line: one finding
+            before = f"; {prev.written} (line {prev.loc.line}) is left without data"
+        text = raw.decode("latin-1").strip()[:60]
+        rd.issue("malformed-data", f"the line '{text}' starts with '*', so the solver reads it as a keyword "
+                 f"it does not know and skips it{before}: a data line must not start with '*'", kw.loc.line,
+                 line_text=text)
+        return
+    if dialect != "calculix" or is_known(kw.key):
+        return
+    near = closest(kw.key)
+    hint = f"; did you mean {written(near)}?" if near else ""
+    rd.issue("unknown-keyword", f"{kw.written} is not a CalculiX keyword: the solver skips it and its data "
+             f"lines{hint}", kw.loc.line, material=material, keyword=kw.written,
+             closest=written(near) if near else None)

@@ -88,9 +88,6 @@ CONSTRAINT OBJECTIVE FILTER GEOMETRICCONSTRAINT CORRELATEDLOADS ELEMENTOUTPUT HE
 MASSFLOW REFINEMESH STATICOUTPUT COUPLEDTEMPERATUREDISPLACEMENT
 """.split())
 
-#: a "keyword" that is a number (``*5e8,0``): a data line written with a leading '*'
-_STRAY_DATA = re.compile(r"[-+.]?\d")
-
 _catalogue = None
 
 
@@ -283,7 +280,7 @@ class _Parser:
         if key == "INCLUDE":                  # inlined by the solver: an open material block goes on
             self.include(rd, kw)
             return
-        if self.material is not None and _STRAY_DATA.match(key):
+        if self.material is not None and keywords.STRAY_DATA.match(key):
             pass          # a data line written with a leading '*': ccx skips it, the material stays open
         elif self.material is not None and self.dialect == "calculix" and not keywords.is_known(key) \
                 and key not in KNOWN_SKIPPED:
@@ -312,7 +309,7 @@ class _Parser:
                 rd.issue("misplaced-card", "*END STEP without an open *STEP", kw.loc.line)
             self.step = None
         elif key in cards.PROCEDURE_CARDS:
-            self.procedure(rd, kw)
+            self.procedure(rd, kw, start, end, first_line)
         elif key == "DLOAD":
             if self.step is None:
                 rd.issue("misplaced-card", "*DLOAD outside a step", kw.loc.line)
@@ -341,26 +338,8 @@ class _Parser:
                 seen[1] += 1
 
     def unknown_keyword(self, rd: Reader, kw: KeywordLine, raw: bytes) -> None:
-        """A keyword the solver does not know: a data line with a stray '*', or a misspelling."""
-        prev = self.prev_kw
-        if _STRAY_DATA.match(kw.key):
-            issues = self.model.issues
-            before = ""
-            if prev is not None and issues and issues[-1].code == "malformed-data" \
-                    and issues[-1].loc == prev.loc and "has no data line" in issues[-1].message:
-                issues.pop()          # the card above lacks its data because of this line: one finding
-                before = f"; {prev.written} (line {prev.loc.line}) is left without data"
-            text = raw.decode("latin-1").strip()[:60]
-            rd.issue("malformed-data", f"the line '{text}' starts with '*', so the solver reads it as a keyword "
-                     f"it does not know and skips it{before}: a data line must not start with '*'", kw.loc.line,
-                     line_text=text)
-            return
-        if self.dialect != "calculix" or keywords.is_known(kw.key):
-            return
-        near = keywords.closest(kw.key)
-        hint = f"; did you mean {keywords.written(near)}?" if near else ""
-        rd.issue("unknown-keyword", f"{kw.written} is not a CalculiX keyword: the solver skips it and its data "
-                 f"lines{hint}", kw.loc.line, material=self.material.name if self.material else None, keyword=kw.written, closest=keywords.written(near) if near else None)
+        keywords.report_unknown(rd, kw, raw, self.prev_kw, self.model.issues, self.dialect,
+                                self.material.name if self.material else None)
 
     def continue_card(self, rd: Reader, kw: KeywordLine, start: int, end: int, first_line: int,
                       nlines: int) -> None:
@@ -397,7 +376,7 @@ class _Parser:
             self.model.materials[mat.key] = mat
         self.material = mat
 
-    def procedure(self, rd: Reader, kw: KeywordLine) -> None:
+    def procedure(self, rd: Reader, kw: KeywordLine, start: int = 0, end: int = 0, first_line: int = 0) -> None:
         if self.step is None:
             rd.issue("misplaced-card", f"{kw.written} outside a *STEP ... *END STEP block", kw.loc.line)
             return
@@ -407,6 +386,8 @@ class _Parser:
             self.modes_from = kind
         elif kind in ("modal-dynamic", "steady-state-dynamics") and self.modes_from == "heat-frequency":
             kind = "scalar-modal"   # works on the modes of the scalar field (ccx: acoustic analogy)
+        if kind in cards.TIMED_KINDS and end > start:
+            opts.update(cards.step_times(rd, start, end, first_line))
         self.step.procedures.append(Procedure(kind, kw.written, kw.loc, opts))
 
     def include(self, rd: Reader, kw: KeywordLine) -> None:
