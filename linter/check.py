@@ -18,6 +18,7 @@ from .parsers.includes import IncludePolicy
 from .parsers.sources import SourceError
 
 def material_summary(model) -> list[dict[str, Any]]:
+    from .review_facts import block_facts
     from .usage import element_types_of
 
     out = []
@@ -25,6 +26,7 @@ def material_summary(model) -> list[dict[str, Any]]:
         entry = {
             "name": m.name, "path": m.loc.path, "line": m.loc.line,
             "properties": [f"{b.kind}:{b.form}" if b.form != "iso" else b.kind for b in m.blocks],
+            "blocks": [block_facts(b) for b in m.blocks],
         }
         used = element_types_of(model, m.key)
         if used:
@@ -35,7 +37,8 @@ def material_summary(model) -> list[dict[str, Any]]:
     return out
 
 
-def check_file(path: str, fmt: str, config: Config, policy: IncludePolicy) -> FileReport:
+def check_file(path: str, fmt: str, config: Config, policy: IncludePolicy, details: bool = False) -> FileReport:
+    """Check one deck; ``details`` adds the audit's facts (file hashes, steps, usage map, unit labels)."""
     from .derived import derive_all
     from .runner import finalize, run_rules
 
@@ -82,6 +85,10 @@ def check_file(path: str, fmt: str, config: Config, policy: IncludePolicy) -> Fi
         "nodes": model.geometry.node_count,
         "steps": [p.kind for _s, p in model.procedures()],
     })
+    if details:
+        from .review_facts import model_details
+
+        report.details = model_details(model)
     report.incomplete = registry.makes_incomplete(report.findings)
     report.seconds = time.perf_counter() - t0
     return report
@@ -95,8 +102,8 @@ def _type_counts(model) -> dict[str, int]:
 
 
 def _check_one(args):
-    path, fmt, config, policy = args
-    return check_file(path, fmt, config, policy)
+    path, fmt, config, policy, details = args
+    return check_file(path, fmt, config, policy, details)
 
 
 def _no_deck_check(decks: list, result: RunResult, paths: list[str]) -> list:
@@ -106,7 +113,8 @@ def _no_deck_check(decks: list, result: RunResult, paths: list[str]) -> list:
     return decks
 
 
-def check_paths(paths: list[str], config: Optional[Config] = None, jobs: Optional[int] = None) -> RunResult:
+def check_paths(paths: list[str], config: Optional[Config] = None, jobs: Optional[int] = None,
+                details: bool = False) -> RunResult:
     config = config or Config()
     result = RunResult()
     registry.load()
@@ -132,9 +140,9 @@ def check_paths(paths: list[str], config: Optional[Config] = None, jobs: Optiona
                 return pool.map(fn, items, chunksize=max(1, len(items) // (jobs * 8)))
 
             decks = _no_deck_check(discover(paths, result, config, mapper), result, paths)
-            result.files = list(mapper(_check_one, [(p, fmt, config.for_path(p), policy) for p, fmt in decks]))
+            result.files = list(mapper(_check_one, [(p, fmt, config.for_path(p), policy, details) for p, fmt in decks]))
     else:
         decks = _no_deck_check(discover(paths, result, config), result, paths)
-        result.files = [_check_one((p, fmt, config.for_path(p), policy)) for p, fmt in decks]
+        result.files = [_check_one((p, fmt, config.for_path(p), policy, details)) for p, fmt in decks]
     result.incomplete = registry.makes_incomplete(result.general) or any(f.incomplete for f in result.files)
     return result

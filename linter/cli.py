@@ -1,4 +1,4 @@
-"""The ``deckwarden`` command: ``check``, ``rules``, ``explain``, ``--version``.
+"""The ``deckwarden`` command: ``check``, ``audit``, ``rules``, ``explain``, ``--version``.
 
 Exit codes: 0 nothing at or above the fail level; 1 findings at or above it; 2 the check
 is incomplete (missing path, unreadable file, no deck, internal failure) or a usage
@@ -39,12 +39,25 @@ def build_parser() -> argparse.ArgumentParser:
                        description="Check decks and report findings. Exit code 0: nothing at or above the "
                                    "fail level; 1: findings at or above it; 2: the check is incomplete.")
     c.add_argument("paths", nargs="+", metavar="PATH", help="deck files or folders to walk")
-    c.add_argument("--format", "-f", choices=FORMATS, default="text", help="report format (default: text)")
+    c.add_argument("--format", "-f", choices=FORMATS, default="text",
+                   help="report format (default: text; audit: the reviewer's audit in Markdown, or in HTML "
+                        "when --output ends with .html)")
     c.add_argument("--output", "-o", metavar="FILE", help="write the report to FILE instead of standard output")
     _config_options(c)
     c.add_argument("--materials", metavar="FILE",
                    help="material file (deckwarden: 1) for the mesh files given (Gmsh, VTK, XDMF, MED ...)")
     c.add_argument("--no-color", action="store_true", help="no colour in the text report")
+
+    a = sub.add_parser("audit", help="the reviewer's audit of decks: one self-contained HTML file",
+                       description="Check decks and write the reviewer's audit: one HTML file with the model, "
+                                   "every material's constants and derived values (deck units and SI), the usage "
+                                   "map, findings with rationale and remedy, suppressed findings and figures "
+                                   "(figures need the optional matplotlib extra). Exit codes as for check.")
+    a.add_argument("--format", "-f", choices=("html", "markdown"), default="html",
+                   help="html (default) or markdown")
+    for action in c._actions:  # every other option of check, as check has it
+        if action.dest not in ("help", "format"):
+            a._add_action(action)
 
     g = sub.add_parser("config", help="show the effective configuration and where each value comes from",
                        description="Print the configuration a check of PATH would use: every value and its "
@@ -234,6 +247,16 @@ def _inputs(result) -> set[str]:
     return out
 
 
+def _report_format(args) -> str:
+    """The reporter's name: ``audit --format html|markdown``; ``check --format audit`` writes Markdown,
+    or HTML when the output file is named .html/.htm."""
+    if args.command == "audit":
+        return "html" if args.format == "html" else "audit"
+    if args.format == "audit" and args.output and args.output.lower().endswith((".html", ".htm")):
+        return "html"
+    return args.format
+
+
 def cmd_check(args) -> int:
     from . import reporters
     from .check import check_paths
@@ -242,11 +265,18 @@ def cmd_check(args) -> int:
     cfg = _config(args)
     if args.output and os.path.realpath(args.output) in {os.path.realpath(p) for p in args.paths}:
         raise UsageError(f"--output {args.output}: is one of the paths to check; deckwarden never writes its input")
-    result = check_paths(list(args.paths), cfg, jobs=cfg.jobs)
+    fmt = _report_format(args)
+    audit = fmt in ("audit", "html")
+    result = check_paths(list(args.paths), cfg, jobs=cfg.jobs, details=audit)
     code = exit_code(result, cfg.fail_on)
     opts = reporters.ReportOptions(color=False if (args.no_color or args.output) else None,
                                    fail_on=cfg.fail_on, exit_code=code)
-    fn = reporters.get(args.format)
+    if audit:
+        import dataclasses
+
+        opts.command = ["deckwarden"] + list(getattr(args, "argv", None) or sys.argv[1:])
+        opts.config = dataclasses.asdict(cfg)
+    fn = reporters.get(fmt)
     if args.output:
         if os.path.realpath(args.output) in _inputs(result):
             raise UsageError(f"--output {args.output}: is a file the check read; deckwarden never writes its input")
@@ -355,7 +385,9 @@ def main(argv: Optional[Sequence[str]] = None) -> int:
     except (ValueError, OSError):  # pragma: no cover - a closed or odd stream
         pass
     try:
-        args = build_parser().parse_args(list(sys.argv[1:] if argv is None else argv))
+        argv = list(sys.argv[1:] if argv is None else argv)
+        args = build_parser().parse_args(argv)
+        args.argv = argv
         if args.command is None:
             build_parser().print_help(sys.stderr)
             return EXIT_USAGE
@@ -363,7 +395,7 @@ def main(argv: Optional[Sequence[str]] = None) -> int:
             from .configshow import cmd_config
 
             return cmd_config(args, _config(args))
-        return {"check": cmd_check, "rules": cmd_rules, "explain": cmd_explain}[args.command](args)
+        return {"check": cmd_check, "audit": cmd_check, "rules": cmd_rules, "explain": cmd_explain}[args.command](args)
     except UsageError as exc:
         print(f"deckwarden: error: {exc}", file=sys.stderr)
         return EXIT_USAGE

@@ -64,6 +64,9 @@ class FileReport:
     #: the check of this file is incomplete (unreadable, internal failure, refused include ...)
     incomplete: bool = False
     seconds: float = 0.0
+    #: the audit's facts (file hashes, includes, element grades, steps, usage map, unit labels), only when
+    #: the check was asked for them (``linter.review_facts.model_details``)
+    details: dict[str, Any] = field(default_factory=dict)
 
     def to_dict(self) -> dict[str, Any]:
         out: dict[str, Any] = {
@@ -78,6 +81,8 @@ class FileReport:
         if self.summary:
             out["summary"] = self.summary
         out["incomplete"] = self.incomplete
+        if self.details:
+            out["details"] = self.details
         return out
 
 

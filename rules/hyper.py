@@ -135,7 +135,7 @@ def too_compressible(model, ctx):
             yield ctx.finding(
                 f"material {mat.name} ({entry['model']}) looks like an elastomer (mu0 below {mu_mpa:g} MPa, "
                 f"{unit_note}) but is quite compressible, K0/mu0 below {ratio_min:g}: {text}",
-                loc, material=mat.name,
+                loc, material=mat.name, defect=("hyper-bulk-low", mat.key),
                 restates=(_default_defect(mat, entry), _mu_defect(mat, entry)) if defaulted else (),
                 data={"model": entry["model"], "min_bulk_ratio": ratio_min, "elastomer_mu0": limit,
                       "unit_note": unit_note,

@@ -79,6 +79,21 @@ ISSUE_RULES = {
     "duplicate-set": ("note", "A set is defined more than once",
                       "Reopening a set adds to it (CalculiX); a repeated definition is often a copy-paste "
                       "left-over.", ("CCX-UM *ELSET",)),
+    "xml-refused": ("error", "XML that is unsafe to read was refused",
+                    "An XML model that declares entities (an entity-expansion 'billion laughs' bomb), refers to "
+                    "external entities or documents, or nests elements beyond any real model is not read: "
+                    "deckwarden never expands entities nor fetches anything. The file was not checked.",
+                    ("defusedxml documentation (entity expansion, external entities)",)),
+    "xml-malformed": ("error", "The XML is not well-formed",
+                      "The file is not well-formed XML (an unclosed or mismatched tag, a bad character); the "
+                      "solver refuses it too. The file was not checked.", ("W3C XML 1.0, well-formedness",)),
+    "xml-unavailable": ("error", "XML support is not installed",
+                        "Reading XML models needs the defusedxml package (installed with deckwarden); without "
+                        "it the file is not read rather than read unsafely.", ()),
+    "unsupported-version": ("error", "A model version the parser does not read",
+                            "FEBio models are read for febio_spec 4.0, 3.0 and 2.5; another version (or another "
+                            "root element) is not read, rather than read wrongly. The file was not checked.",
+                            ("FEBio User's Manual 4.0, 3.1 'febio_spec'",)),
     "syntax-error": ("error", "A command file is not valid Python",
                      "A code_aster command file is a Python program: a syntax error stops the solver before the "
                      "first command. The line is skipped and the rest of the file is still read as data.",
@@ -120,7 +135,8 @@ ESCALATION = {"malformed-data": "warning for values after the temperature that t
 
 
 #: issues that mean part of the input was not read: the check is incomplete (exit code 2)
-INCOMPLETE_ISSUES = ("include-refused", "include-unreadable", "missing-include")
+INCOMPLETE_ISSUES = ("include-refused", "include-unreadable", "missing-include", "xml-refused", "xml-malformed",
+                     "xml-unavailable", "unsupported-version")
 
 
 def _make(code, severity, title, rationale, refs):

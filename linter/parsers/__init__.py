@@ -32,6 +32,7 @@ BUILTIN = {
     "bulk": "linter.parsers.bulk",
     "aster": "linter.parsers.aster",
     "mesh": "linter.parsers.mesh",
+    "febio": "linter.parsers.febio",
 }
 #: the attributes every parser module must have (``includes_of`` is optional)
 REQUIRED = ("FORMAT", "EXTENSIONS", "sniff", "parse")

@@ -22,6 +22,7 @@ BUILTIN = {
     "json": "linter.reporters.json_report:report",
     "sarif": "linter.reporters.sarif:report",
     "audit": "linter.reporters.audit:report",
+    "html": "linter.reporters.review_html:report",
     "line": "linter.reporters.line:report",
 }
 _REPORTERS: dict[str, Callable] = {}
@@ -37,6 +38,9 @@ class ReportOptions:
     exit_code: Optional[int] = None
     #: terminal width for the text report (None: the terminal's, or 120 when not a terminal)
     width: Optional[int] = None
+    #: the audit's provenance: the command line as given, and the configuration used (plain data)
+    command: Optional[list] = None
+    config: Optional[dict] = None
 
 
 def as_options(options: Any) -> ReportOptions:

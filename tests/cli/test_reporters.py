@@ -112,13 +112,16 @@ def test_audit_is_literal_markdown():
     assert "\\*\\*bold\\*\\*" in md and "\\| cell" in md
     assert "\\[bold red\\]STEEL" in md and "\x1b" not in md
     assert "\nfake.inp" not in md
-    # scope, materials, findings by severity, what was not checked
-    assert "| model/main.inp | keyword | calculix | mm-tonne-s (confidence 0.80) | 1 | C3D10 × 1200 |" in md
-    assert "Included files read: model/parts.inp" in md
-    assert md.index("### Errors") < md.index("### Warnings") < md.index("### Notes")
-    assert "- \\*CREEP (no rule yet): 2 at model/parts.inp:9, model/parts.inp:19" in md
-    assert "G = 8.077e+04" in md
-    assert "| elastic, density | G = 8.077e+04 | C3D10 × 1200 |" in md
+    # summary verdict, files read, unit system, findings by severity, what was not checked
+    assert "| model/main.inp | keyword | 1 error(s), 1 warning(s), 1 note(s); check complete |" in md
+    assert "Not tied to a deck: 1 error(s)" in md
+    assert "| model/parts.inp | include |" in md
+    assert "Unit system: **mm-tonne-s** (inferred, confidence 0.80)" in md
+    assert md.index("#### Errors") < md.index("#### Warnings") < md.index("#### Notes")
+    assert "| \\*CREEP | no rule yet | 2 | model/parts.inp:9, model/parts.inp:19 |" in md
+    # derived values with the audit's formatting rule, infinite and undefined spelled out
+    assert "| 80769.2 | infinite | n/a |" in md
+    assert "worst_row" not in md
 
 
 def test_text_shows_usage_when_known():

@@ -300,3 +300,18 @@ def test_section_kind_gives_the_family_of_surface_cells(tmp_path):
     model = parse(tmp_path / "model.yaml")
     assert element_types_of(model, "A") == {"QUAD:SHELL": 1}
     assert model.sections[0].kind == "shell" and model.sections[0].materials[0].role == "shell"
+
+
+@pytest.mark.skipif(not HAS_H5PY, reason="h5py (extra 'mesh') not installed")
+def test_med_groups_by_name(tmp_path):
+    m = plain(block_mesh())
+    m.cell_data = {"cell_tags": [np.asarray(-v) for v in m.cell_data["region"]]}
+    m.cell_tags = {-1: ["left", "metal"], -2: ["right", "metal"], -3: ["cap"], -9: ["face"]}
+    meshio.write(tmp_path / "m.med", m)
+    model = parse(material_file(tmp_path, "m.med", {1: ("{set: metal}", "STEEL"), 2: ("{set: cap}", "SEAL")}))
+    assert not model.issues, [i.message for i in model.issues]
+    # reference: meshio's reading of the MED file (families -> groups, family tag per cell)
+    ref = meshio.read(tmp_path / "m.med")
+    metal = [t for t, names in ref.cell_tags.items() if "metal" in names]
+    n_metal = sum(int(np.isin(np.asarray(a).ravel(), metal).sum()) for a in ref.cell_data["cell_tags"])
+    assert counts_by_region(model) == {1: {"hexahedron": n_metal}, 2: {"tetra": 24}}

@@ -60,8 +60,8 @@ def select(mesh, reg: Region, dims: list[int]) -> tuple[list[Optional[np.ndarray
             tag, pdim = int(fd[0]), (int(fd[1]) if fd.size > 1 else None)
         if phys is None:
             return masks, "the mesh carries no Gmsh physical tags"
-        hits = [(b, _column(phys[b]) == tag) for b in range(n_blocks) if allowed[b] and _column(phys[b]) is not None
-                and (pdim is None or dims[b] == pdim)]
+        hits = [(b, _column(phys[b]) == tag) for b in range(min(n_blocks, len(phys)))
+                if allowed[b] and _column(phys[b]) is not None and (pdim is None or dims[b] == pdim)]
         hits = [(b, m) for b, m in hits if m.any()]
         if hits and pdim is None and reg.dim is None:  # a bare tag: the highest dimension that has it
             best = max(dims[b] for b, _m in hits)
@@ -71,6 +71,8 @@ def select(mesh, reg: Region, dims: list[int]) -> tuple[list[Optional[np.ndarray
         return masks, "no cell carries that physical tag"
     if sel[0] == "set":
         cs = (mesh.cell_sets or {}).get(sel[1])
+        if cs is None and _med_group(mesh, sel[1]) is not None:
+            return _med_masks(mesh, _med_group(mesh, sel[1]), allowed), "no cell carries the group's family tags"
         if cs is None:
             names = sorted((mesh.cell_sets or {}).keys())
             return masks, ("the mesh has no cell set of that name"
@@ -99,6 +101,26 @@ def select(mesh, reg: Region, dims: list[int]) -> tuple[list[Optional[np.ndarray
             if m.any():
                 masks[b] = m
     return masks, "no cell has that value"
+
+
+def _med_group(mesh, name: str) -> Optional[list[int]]:
+    """MED: the family tags whose groups include ``name`` (meshio keeps them as ``mesh.cell_tags``)."""
+    tags = getattr(mesh, "cell_tags", None)
+    if not isinstance(tags, dict) or "cell_tags" not in mesh.cell_data:
+        return None
+    found = [int(t) for t, names in tags.items() if name in (names or ())]
+    return found or None
+
+
+def _med_masks(mesh, tags: list[int], allowed: list[bool]) -> list[Optional[np.ndarray]]:
+    out: list[Optional[np.ndarray]] = [None] * len(mesh.cells)
+    for b, arr in enumerate(mesh.cell_data["cell_tags"][:len(mesh.cells)]):
+        col = _column(arr)
+        if col is not None and allowed[b]:
+            m = np.isin(col, tags)
+            if m.any():
+                out[b] = m
+    return out
 
 
 def assign(doc: Doc, mesh, regions: list[Region], mesh_loc: Loc, mesh_name: str, known) -> dict:
