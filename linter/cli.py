@@ -72,6 +72,8 @@ def build_parser() -> argparse.ArgumentParser:
     e = sub.add_parser("explain", help="what a rule checks and why",
                        description="Show a rule's title, default severity, rationale, references and data.")
     e.add_argument("rule", metavar="RULE", help="a rule id (family/name) or a family")
+    e.add_argument("--config", metavar="FILE",
+                   help="configuration whose threshold values to show (default: deckwarden.yaml found upwards)")
     return p
 
 
@@ -371,6 +373,23 @@ def cmd_explain(args) -> int:
     out.append(para("why", r.rationale or "(no rationale given)"))
     out.append("references:\n" + ("".join(f"  - {ref}\n" for ref in r.references) or "  (none)\n"))
     out.append(para("finding data", r.data or "(nothing beyond the message)"))
+    if r.thresholds:
+        from .config import Config, ConfigError
+
+        try:
+            cfg = Config.load(args.config)
+        except ConfigError as exc:
+            raise UsageError(str(exc)) from None
+        where = cfg.source or "the defaults, linter/data/thresholds.yaml"
+        lines = []
+        for key in r.thresholds:
+            try:
+                value = cfg.threshold(key)
+            except KeyError:
+                value = "(not set)"
+            lines.append(f"  {key} = {'null' if value is None else value}\n")
+        out.append(f"thresholds (values from {where}; override under 'thresholds:' in a configuration):\n"
+                   + "".join(lines))
     sys.stdout.write("\n".join(out))
     return 0
 

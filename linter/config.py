@@ -47,6 +47,58 @@ def default_thresholds() -> dict[str, Any]:
     return load_package_yaml(text)
 
 
+def _kind(default: Any) -> str:
+    if isinstance(default, list):
+        return f"a list of {len(default)} numbers"
+    if default is None:
+        return "a number or null"
+    return "a whole number" if isinstance(default, int) else "a number"
+
+
+def _fits(value: Any, default: Any) -> bool:
+    def number(x: Any) -> bool:
+        return isinstance(x, (int, float)) and not isinstance(x, bool)
+
+    if isinstance(default, list):
+        return isinstance(value, list) and len(value) == len(default) and all(number(x) for x in value)
+    if default is None:
+        return value is None or number(value)
+    if isinstance(default, int) and not isinstance(default, bool):
+        return number(value) and float(value).is_integer()
+    return number(value)
+
+
+def _plugin_families() -> set[str]:
+    from . import registry
+
+    return {r.family for r in registry.load().values() if r.pack != "builtin"}
+
+
+def check_thresholds(over: dict, source: Optional[str], defaults: Optional[dict] = None, prefix: str = "") -> None:
+    """Raise :class:`ConfigError` naming the key and the file for a threshold that does not exist or a
+    value of the wrong type under ``thresholds:``. Top-level keys of a third-party rule pack's family are
+    left to that pack."""
+    import difflib
+
+    where = source or "configuration"
+    defaults = default_thresholds() if defaults is None else defaults
+    for k, v in over.items():
+        key = f"{prefix}{k}"
+        if k not in defaults:
+            if not prefix and str(k) in _plugin_families():
+                continue
+            close = difflib.get_close_matches(str(k), [str(d) for d in defaults], n=1, cutoff=0.6)
+            hint = f"; did you mean {prefix + close[0]!r}?" if close else ""
+            raise ConfigError(f"{where}: unknown threshold {key!r} under 'thresholds'{hint}")
+        d = defaults[k]
+        if isinstance(d, dict):
+            if not isinstance(v, dict):
+                raise ConfigError(f"{where}: 'thresholds.{key}' must be a mapping of thresholds, not {v!r}")
+            check_thresholds(v, source, d, key + ".")
+        elif not _fits(v, d):
+            raise ConfigError(f"{where}: threshold {key!r} must be {_kind(d)}, not {v!r}")
+
+
 def _merge(base: dict, over: dict) -> dict:
     out = copy.deepcopy(base)
     for k, v in over.items():
@@ -173,6 +225,7 @@ class Config:
             elif key == "thresholds":
                 if not isinstance(value, dict):
                     raise ConfigError(f"{source}: 'thresholds' must be a mapping")
+                check_thresholds(value, source)
                 cfg.thresholds = _merge(default_thresholds(), value)
             elif key == "rules":
                 if not isinstance(value, dict):

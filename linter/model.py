@@ -241,6 +241,8 @@ class ElementBlock:
 
     ``type`` is the catalogue key (upper case; bulk solids carry their node count, e.g. ``CHEXA8``).
     ``ids`` and ``conn`` are :class:`Lazy` numpy arrays (int64; ``conn`` shape (count, nodes)).
+    ``pieces`` (optional): a function that yields (ids, conn) of consecutive parts of the block, in order,
+    so that a rule can go over a large block with bounded memory without loading ``conn``.
     """
 
     type: str
@@ -251,6 +253,7 @@ class ElementBlock:
     nodes: int = 0
     ids: Optional[Lazy] = None
     conn: Optional[Lazy] = None
+    pieces: Optional[Callable] = None
 
 
 @dataclass(slots=True)

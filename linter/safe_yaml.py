@@ -26,17 +26,26 @@ class _NoAliasLoader(yaml.SafeLoader):
         return super().compose_scalar_node(anchor)
 
 
-def load_yaml_text(text: str, what: str = "YAML document"):
+def _check_size(text: str, what: str) -> None:
     if len(text.encode("utf-8", "replace")) > MAX_YAML_BYTES:
         raise YamlRefused(f"{what} is larger than {MAX_YAML_BYTES} bytes")
+
+
+def _refused(exc: yaml.YAMLError, what: str) -> YamlRefused:
+    """A YAML syntax error as a refusal that names the line."""
+    mark = getattr(exc, "problem_mark", None)
+    where = f"line {mark.line + 1}: " if mark is not None else ""
+    return YamlRefused(f"{what}: {where}{getattr(exc, 'problem', None) or exc}")
+
+
+def load_yaml_text(text: str, what: str = "YAML document"):
+    _check_size(text, what)
     try:
         return yaml.load(text, Loader=_NoAliasLoader)  # noqa: S506 - safe loader subclass
     except YamlRefused:
         raise
     except yaml.YAMLError as exc:
-        mark = getattr(exc, "problem_mark", None)
-        where = f"line {mark.line + 1}: " if mark is not None else ""
-        raise YamlRefused(f"{what}: {where}{getattr(exc, 'problem', None) or exc}") from None
+        raise _refused(exc, what) from None
 
 
 def load_yaml_file(path) -> object:
@@ -66,8 +75,7 @@ def compose_yaml_text(text: str, what: str = "YAML document"):
     Nodes keep their position: ``node.start_mark.line`` is the 0-based line. None for an empty
     document. Scalars are not converted; :func:`scalar_value` does that with the safe resolver.
     """
-    if len(text.encode("utf-8", "replace")) > MAX_YAML_BYTES:
-        raise YamlRefused(f"{what} is larger than {MAX_YAML_BYTES} bytes")
+    _check_size(text, what)
     loader = None
     try:
         loader = _NoAliasLoader(text)
@@ -75,9 +83,7 @@ def compose_yaml_text(text: str, what: str = "YAML document"):
     except YamlRefused:
         raise
     except yaml.YAMLError as exc:
-        mark = getattr(exc, "problem_mark", None)
-        where = f"line {mark.line + 1}: " if mark is not None else ""
-        raise YamlRefused(f"{what}: {where}{getattr(exc, 'problem', None) or exc}") from None
+        raise _refused(exc, what) from None
     finally:
         if loader is not None:
             loader.dispose()

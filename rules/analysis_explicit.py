@@ -37,6 +37,8 @@ def smallest_length(model, key: str) -> Optional[float]:
     lookup = model.derived.get("_node_lookup")
     if lookup is None:
         lookup = model.derived["_node_lookup"] = M.NodeLookup(node_ids)
+        model.derived["_node_columns"] = M.columns(coords)
+    coords = model.derived["_node_columns"]
     best = None
     for use in material_usage(model).get(key, ()):
         sel = resolve_set(model, use.section.elset)
@@ -46,13 +48,27 @@ def smallest_length(model, key: str) -> Optional[float]:
             blk = model.element_blocks[i]
             if blk.conn is None:
                 return None
-            conn = blk.conn.get()
-            if conn is None or np.size(conn) == 0:
-                continue
-            L = M.smallest_edge(conn, lookup, coords, blk.type, mask)
-            if L is not None and (best is None or L < best):
-                best = L
+            for L in _block_edges(blk, lookup, coords, mask):
+                if L is not None and (best is None or L < best):
+                    best = L
     return best
+
+
+def _block_edges(blk, lookup, coords, mask):
+    """Smallest edge of each piece of a block: piece by piece when the block can give its connectivity so
+    (bounded memory on large decks; only a running minimum is kept), else of the loaded connectivity."""
+    if blk.pieces is not None and not blk.conn.loaded:
+        at = 0
+        for _ids, conn in blk.pieces():
+            n = conn.shape[0]
+            part = None if mask is None else mask[at:at + n]
+            at += n
+            if n and (part is None or part.any()):
+                yield M.smallest_edge(conn, lookup, coords, blk.type, part)
+        return
+    conn = blk.conn.get()
+    if conn is not None and np.size(conn):
+        yield M.smallest_edge(conn, lookup, coords, blk.type, mask)
 
 
 def wave_speeds(mat) -> Optional[tuple[float, float, str]]:
@@ -85,7 +101,8 @@ def wave_speeds(mat) -> Optional[tuple[float, float, str]]:
       rationale="The central-difference method is stable for dt <= L_e / c_d. Near-incompressible materials "
                 "have a dilatational speed far above the shear speed, so their bulk stiffness, not their "
                 "shear stiffness, sets (and shrinks) the step.",
-      references=(BLM,), data="length, length_estimated, cd, cs, dt, dt_shear, ratio, source")
+      references=(BLM,), data="length, length_estimated, cd, cs, dt, dt_shear, ratio, source",
+      thresholds=("analysis.explicit_ratio_warn",))
 def explicit_time_step(model, ctx):
     explicit = [(s, p) for s, p in model.procedures() if p.kind == "dynamic-explicit"]
     if not explicit:

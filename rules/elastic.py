@@ -211,7 +211,8 @@ def poisson_negative(model, ctx):
                 "elements then lock and the system becomes ill-conditioned; check the element choice "
                 "(see element/volumetric-locking).",
       references=(MODULI_TABLE, "physics.md 6.2 (onset of trouble nu = 0.45-0.49, from memory)"),
-      data=DATA_ROWS + "; threshold: elastic.near_incompressible_nu")
+      data=DATA_ROWS + "; threshold: elastic.near_incompressible_nu",
+      thresholds=("elastic.near_incompressible_nu",))
 def near_incompressible(model, ctx):
     limit = float(ctx.threshold("elastic.near_incompressible_nu"))
     for mat in model.all_materials():

@@ -53,7 +53,8 @@ def _use_label(use) -> str:
                 "two of the three.",
       references=(N95, MYS, USE_NOTE),
       data="E, G, NU as given; G_from_E_nu = E/(2(1+NU)); relative_difference = |1 - G_from_E_nu/G|; "
-           "used_by: sections using the material")
+           "used_by: sections using the material",
+      thresholds=("elastic.mat1_consistency_tol",))
 def inconsistent_constants(model, ctx):
     tol = float(ctx.threshold("elastic.mat1_consistency_tol"))
     for mat in list(model.all_materials()) + list(model.duplicate_materials):

@@ -77,7 +77,9 @@ def _stiffness_cause(mat, ctx):
                   "physics.md 6.1-6.2 (locking of low-order displacement elements; cures)",
                   "MYSTRAN user's manual PSOLID: ISOP=REDUCED is reduced shear integration (formats.md 5.5)"),
       data="cause: isotropic | hyperelastic | plastic; nu, K_over_G or K0_over_mu0; types: {type: {count, grade}}; "
-           "alternatives: {type: [non-locking types of the same family]}")
+           "alternatives: {type: [non-locking types of the same family]}",
+      thresholds=("element.locking_ratio", "elastic.near_incompressible_nu", "element.locking_error_nu",
+                  "element.locking_error_ratio"))
 def volumetric_locking(model, ctx):
     cat = ctx.catalogue
     for mat in model.all_materials():

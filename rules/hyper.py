@@ -111,7 +111,8 @@ def compressibility_defaulted(model, ctx):
                 "(small mu0) with K0/mu0 below the threshold (nu0 under about 0.475) is usually a D given in "
                 "the wrong convention, or a bulk modulus typed where D belongs.",
       references=("physics.md 3.2 (K0/mu0 < ~20 suspicious for a solid rubber)", CCX_HYP),
-      data="model; rows: [{line, temperature, mu0, K0_over_mu0, nu0}]; min_bulk_ratio; elastomer_mu0; unit_note")
+      data="model; rows: [{line, temperature, mu0, K0_over_mu0, nu0}]; min_bulk_ratio; elastomer_mu0; unit_note",
+      thresholds=("hyper.min_bulk_ratio", "hyper.elastomer_mu0_mpa", "hyper.unit_min_confidence"))
 def too_compressible(model, ctx):
     ratio_min = float(ctx.threshold("hyper.min_bulk_ratio"))
     mu_mpa = float(ctx.threshold("hyper.elastomer_mu0_mpa"))
@@ -156,7 +157,8 @@ def _intervals(ivs) -> str:
                 "slope alone is only a necessary condition). Loss inside the working stretch range is an error.",
       references=(HILL, "Ogden 1972, Proc. R. Soc. Lond. A 326 (physics.md 3.5)"),
       data="model; criterion; stretch_range; working_range; rows: [{line, temperature, modes: {UT|ET|PS: "
-           "{stable, unstable}}, in_working_range}]")
+           "{stable, unstable}}, in_working_range}]",
+      thresholds=("hyper.stretch_range", "hyper.stretch_points", "hyper.working_range"))
 def unstable(model, ctx):
     srange = [float(x) for x in ctx.threshold("hyper.stretch_range")]
     wrange = [float(x) for x in ctx.threshold("hyper.working_range")]

@@ -37,7 +37,8 @@ def _blocks(model, form):
                 "(a warning). A fluid's bulk modulus k must be positive too.",
       references=(FEBIO_UNCOUPLED, FEBIO_FLUID,
                   "physics.md 3.2 (nu from K/mu)", "thresholds.yaml hyper.uncoupled_ratio_min/max"),
-      data="k, mu0, k_over_mu0, nu_equivalent, limit")
+      data="k, mu0, k_over_mu0, nu_equivalent, limit",
+      thresholds=("hyper.uncoupled_ratio_min", "hyper.uncoupled_ratio_max"))
 def penalty_bulk_modulus(model, ctx):
     lo = float(ctx.threshold("hyper.uncoupled_ratio_min"))
     hi = float(ctx.threshold("hyper.uncoupled_ratio_max"))

@@ -9,6 +9,7 @@ not a table, and are not checked here.
 """
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 from typing import Optional
@@ -130,6 +131,25 @@ def density(mat):
     return rho if rho > 0 else None
 
 
+#: the classes ``plastic/yield-vs-modulus`` tells apart, with their yield-strain threshold
+YIELD_CLASSES = ("metal", "polymer")
+
+
+@functools.cache
+def class_data():
+    """(stress scales, density scales, class bands) from ``linter/data/units.yaml``: the unit systems and
+    material-class bands of the unit inference, one source for both."""
+    from linter.derived.units.infer import load_data
+
+    data = load_data()
+    bands = {c: {q: data.band(c, q) for q in ("E", "rho")} for c in YIELD_CLASSES}
+    return data.scales("stress"), data.scales("density"), bands
+
+
+def material_class(E, rho) -> str:
+    return P.material_class(E, rho, *class_data())
+
+
 def _where(mat, t) -> str:
     return f"material {mat.name}" + (f", curve at T = {_fmt(t)}" if t is not None else "")
 
@@ -216,7 +236,8 @@ def softening(model, ctx):
       rationale="A hardening table takes plastic strain eps_p = eps - sigma/E as a fraction. A point whose "
                 "strain equals sigma/E is the elastic part of a total-strain curve; strains above 2 are "
                 "probably percent.",
-      references=(PHYS, CCX_PL), data="temperature, line, strain, elastic_strain, reason")
+      references=(PHYS, CCX_PL), data="temperature, line, strain, elastic_strain, reason",
+      thresholds=("plastic.total_strain_rel_tol",))
 def total_strain_given(model, ctx):
     tol = float(ctx.threshold("plastic.total_strain_rel_tol"))
     for mat, blk in plastic_blocks(model):
@@ -287,7 +308,8 @@ def zero_yield(model, ctx):
       rationale="sigma_y/E is about 1e-3 to 1e-2 for metals and up to a few percent for polymers; far "
                 "outside, the yield stress and E are probably in different units (e.g. Pa against MPa).",
       references=(PHYS, "physics.md 5.5 handbook properties"),
-      data="temperature, line, yield_stress, E, yield_strain, material_class, band")
+      data="temperature, line, yield_stress, E, yield_strain, material_class, band",
+      thresholds=("plastic.yield_strain_metal", "plastic.yield_strain_polymer"))
 def yield_vs_modulus(model, ctx):
     metal = tuple(float(x) for x in ctx.threshold("plastic.yield_strain_metal"))
     polymer = tuple(float(x) for x in ctx.threshold("plastic.yield_strain_polymer"))
@@ -298,7 +320,7 @@ def yield_vs_modulus(model, ctx):
             E = elastic_modulus(mat, t)
             if not (y > 0) or not E or not (E > 0):
                 continue
-            cls = P.material_class(E, density(mat))
+            cls = material_class(E, density(mat))
             band = metal if cls == "metal" else polymer
             ratio = y / E
             if band[0] <= ratio <= band[1]:

@@ -44,7 +44,8 @@ def _curves(model):
                 "off the line makes the two disagree (a warning). Usually the curve was measured with another "
                 "modulus, or plastic strain was written where total strain is expected.",
       references=(CA_VERIF, CA_RCTRAC),
-      data="line, strain, stress, ratio (stress/strain), E, tolerance")
+      data="line, strain, stress, ratio (stress/strain), E, tolerance",
+      thresholds=("plastic.first_point_rel_tol",))
 def first_point_off_elastic_line(model, ctx):
     tol = float(ctx.threshold("plastic.first_point_rel_tol"))
     for mat, blk, eps, sig in _curves(model):

@@ -82,7 +82,8 @@ def gravity(model, ctx):
                 "confidence. Declare the system (--units, config key units) to check against it. A declared "
                 "name that is not a known system is an error.",
       references=REFS,
-      data="inferred; runner_up; confidence; margin; evidence (dimensions seen); known (for an unknown name)")
+      data="inferred; runner_up; confidence; margin; evidence (dimensions seen); known (for an unknown name)",
+      thresholds=("units.min_confidence",))
 def undetermined(model, ctx):
     us = model.derived.get("unit_system")
     if not us:

@@ -61,18 +61,24 @@ def edge_pairs(element_type: str, nodes: int) -> tuple[tuple[int, int], ...]:
 class NodeLookup:
     """Node ids sorted once, for repeated id -> row look-ups."""
 
-    __slots__ = ("order", "sorted_ids")
+    __slots__ = ("order", "sorted_ids", "first")
 
     def __init__(self, node_ids: np.ndarray):
         ids = np.asarray(node_ids, dtype=np.int64)
-        self.order = np.argsort(ids, kind="stable")
-        self.sorted_ids = ids[self.order]
+        self.first = None
+        if ids.size and ids[0] + ids.size - 1 == ids[-1] and (np.diff(ids) == 1).all():
+            self.first = int(ids[0])          # consecutive ids in order (the usual numbering): row = id - first
+        self.order = np.argsort(ids, kind="stable") if self.first is None else np.arange(ids.size)
+        self.sorted_ids = ids[self.order] if self.first is None else ids
 
 
 def node_index(node_ids, wanted: np.ndarray) -> np.ndarray:
     """Row index in ``node_ids`` (an array or a :class:`NodeLookup`) of every id in ``wanted`` (-1: not defined)."""
     lk = node_ids if isinstance(node_ids, NodeLookup) else NodeLookup(node_ids)
     order, sorted_ids = lk.order, lk.sorted_ids
+    if lk.first is not None:
+        row = np.asarray(wanted, dtype=np.int64) - lk.first
+        return np.where((row >= 0) & (row < sorted_ids.size), row, -1)
     pos = np.searchsorted(sorted_ids, wanted)
     pos = np.clip(pos, 0, max(sorted_ids.size - 1, 0))
     ok = sorted_ids.size > 0
@@ -80,19 +86,34 @@ def node_index(node_ids, wanted: np.ndarray) -> np.ndarray:
     return np.where(found, order[pos] if ok else -1, -1)
 
 
-def min_edge_lengths(conn: np.ndarray, node_ids: np.ndarray, coords: np.ndarray, element_type: str) -> np.ndarray:
-    """Smallest edge segment of every element (nan for an element with an undefined node)."""
+def columns(coords) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """x, y, z as contiguous 1-d arrays (z = 0 for 2-d coordinates)."""
+    coords = np.asarray(coords, dtype=float)
+    cols = [np.ascontiguousarray(coords[:, k]) for k in range(min(3, coords.shape[1]))]
+    while len(cols) < 3:
+        cols.append(np.zeros(coords.shape[0]))
+    return cols[0], cols[1], cols[2]
+
+
+def min_edge_lengths(conn: np.ndarray, node_ids: np.ndarray, coords, element_type: str) -> np.ndarray:
+    """Smallest edge segment of every element (nan for an element with an undefined node).
+
+    ``coords``: (nodes, 2 or 3) array, or its x, y, z columns (``columns``)."""
     conn = np.asarray(conn, dtype=np.int64)
     if conn.ndim != 2 or conn.shape[0] == 0:
         return np.zeros(0)
-    coords = np.asarray(coords, dtype=float)
-    if coords.shape[1] < 3:
-        coords = np.pad(coords, ((0, 0), (0, 3 - coords.shape[1])))
-    pairs = np.array(edge_pairs(element_type, conn.shape[1]), dtype=np.int64)
+    cols = coords if isinstance(coords, tuple) else columns(coords)
+    pairs = edge_pairs(element_type, conn.shape[1])
     idx = node_index(node_ids, conn)
-    xyz = coords[np.where(idx < 0, 0, idx)]                    # (n, nodes, 3)
-    diff = xyz[:, pairs[:, 0]] - xyz[:, pairs[:, 1]]                         # (n, edges, 3)
-    out = np.sqrt(np.einsum("nek,nek->ne", diff, diff).min(axis=1))
+    safe = np.where(idx < 0, 0, idx)
+    xyz = [np.take(c, safe) for c in cols]                   # 3 x (n, nodes)
+    best = np.full(conn.shape[0], np.inf)
+    for a, b in pairs:                                       # a running minimum, one edge at a time
+        d2 = (xyz[0][:, a] - xyz[0][:, b]) ** 2
+        d2 += (xyz[1][:, a] - xyz[1][:, b]) ** 2
+        d2 += (xyz[2][:, a] - xyz[2][:, b]) ** 2
+        np.minimum(best, d2, out=best)
+    out = np.sqrt(best)
     out[(idx < 0).any(axis=1)] = np.nan
     return out
 
@@ -108,6 +129,7 @@ def smallest_edge(conn: np.ndarray, node_ids: np.ndarray, coords: np.ndarray, el
     best = None
     if not isinstance(node_ids, NodeLookup):
         node_ids = NodeLookup(node_ids)
+    coords = coords if isinstance(coords, tuple) else columns(coords)
     for start in range(0, conn.shape[0] if conn.ndim == 2 else 0, max(int(chunk), 1)):
         lengths = min_edge_lengths(conn[start:start + chunk], node_ids, coords, element_type)
         lengths = lengths[np.isfinite(lengths) & (lengths > 0)]

@@ -13,25 +13,6 @@ import numpy as np
 #: a largest strain above this in a hardening table suggests percent instead of a fraction (physics.md 4)
 PERCENT_STRAIN_LIMIT = 2.0
 
-#: Material-class bands in SI, used to judge a material as metal or polymer from E and density
-#: (physics.md 5.5 handbook rows, widened: metals cast iron .. steel, polymers PA66/PC and fillers).
-CLASS_BANDS_SI = {
-    "metal": {"E": (4.0e10, 4.5e11), "rho": (1.7e3, 2.2e4)},
-    "polymer": {"E": (1.0e8, 2.0e10), "rho": (8.0e2, 2.5e3)},
-}
-#: (stress scale to Pa, density scale to kg/m^3) of the common consistent unit systems (physics.md 5.2)
-UNIT_SCALES = {
-    "SI (m, kg, s)": (1.0, 1.0),
-    "mm, tonne, s": (1.0e6, 1.0e12),
-    "mm, kg, ms": (1.0e9, 1.0e9),
-    "mm, g, ms": (1.0e6, 1.0e6),
-    "m, tonne, s": (1.0e3, 1.0e3),
-    "cm, g, s": (0.1, 1.0e3),
-    "in, lbf s^2/in, s": (6894.757, 1.0686903e7),
-    "ft, slug, s": (47.880259, 515.37882),
-}
-
-
 def eng_to_true(stress_eng, strain_eng):
     """(true stress, true (logarithmic) strain) from an engineering curve."""
     s = np.asarray(stress_eng, dtype=float)
@@ -100,22 +81,25 @@ def elastic_strain_match(stress, strain, E, rel_tol: float) -> np.ndarray:
         return (e > 0) & (el > 0) & (np.abs(e - el) <= rel_tol * np.abs(el))
 
 
-def material_class(E, rho=None) -> str:
-    """"metal", "polymer" or "unknown": the class that E (and density when known) fit in some unit system.
+def material_class(E, rho, stress_scales, density_scales, bands) -> str:
+    """"metal", "polymer" (any class of ``bands``) or "unknown": the class that E (and density when known)
+    fit in some unit system.
 
-    Without a density only E is used, which is ambiguous across unit systems more often than not;
-    the answer is "unknown" whenever the systems disagree.
+    ``stress_scales`` / ``density_scales``: factors to SI (Pa, kg/m^3) of a stress and a density in each
+    unit system (same order); ``bands``: class -> {"E": (lo, hi), "rho": (lo, hi)} in SI. Without a
+    density only E is used, which is ambiguous across unit systems more often than not; the answer is
+    "unknown" whenever the systems disagree.
     """
     if E is None or not np.isfinite(E) or E <= 0:
         return "unknown"
+    e_si = E * np.asarray(stress_scales, dtype=float)
+    has_rho = rho is not None and rho > 0
+    r_si = rho * np.asarray(density_scales, dtype=float) if has_rho else None
     found = set()
-    for s_scale, r_scale in UNIT_SCALES.values():
-        e_si = E * s_scale
-        r_si = None if rho is None or not (rho > 0) else rho * r_scale
-        for name, band in CLASS_BANDS_SI.items():
-            ok = band["E"][0] <= e_si <= band["E"][1]
-            if r_si is not None:
-                ok = ok and band["rho"][0] <= r_si <= band["rho"][1]
-            if ok:
-                found.add(name)
+    for name, band in bands.items():
+        ok = (band["E"][0] <= e_si) & (e_si <= band["E"][1])
+        if has_rho:
+            ok &= (band["rho"][0] <= r_si) & (r_si <= band["rho"][1])
+        if ok.any():
+            found.add(name)
     return found.pop() if len(found) == 1 else "unknown"

@@ -14,7 +14,7 @@ from typing import Any
 
 from . import as_options, run_exit_code, severity_counts, visible
 from .review_doc import (Box, H, Section, Table, findings_section, model_section, para, rule_texts,
-                         split_suppressed, summary_section, unchecked_section, usage_section)
+                         split_suppressed, summary_section, unchecked_section, unit_confident, usage_section)
 
 
 def _band_nu(cfg: Any) -> float:
@@ -24,6 +24,15 @@ def _band_nu(cfg: Any) -> float:
         from ..config import default_thresholds
 
         return float(default_thresholds()["elastic"]["near_incompressible_nu"])
+
+
+def _min_confidence(cfg: Any) -> float:
+    try:
+        return float(cfg["thresholds"]["units"]["min_confidence"])
+    except (KeyError, TypeError, ValueError):
+        from ..config import default_thresholds
+
+        return float(default_thresholds()["units"]["min_confidence"])
 
 
 def _flat(d: Any, prefix: str = "") -> dict[str, Any]:
@@ -77,8 +86,9 @@ def build(result, options=None, figures: bool = True) -> tuple[str, list]:
         a = f"d{i}"
         deck = Section(a, [H(2, f"Deck {i}: {visible(fr.path)}", a)], cls="deck")
         subs = [(f"{a}-model", "model")]
-        deck.children.append(model_section(fr, f"{a}-model"))
-        mats, mtoc = materials_part(fr, a, draw, band)
+        sure = unit_confident(fr.unit_system, _min_confidence(opts.config))
+        deck.children.append(model_section(fr, f"{a}-model", sure))
+        mats, mtoc = materials_part(fr, a, draw, band, sure)
         deck.children += mats
         subs += mtoc
         deck.children.append(usage_section(fr, f"{a}-usage"))

@@ -220,17 +220,35 @@ def summary_section(result, anchors: list[tuple[str, str, list[tuple[str, str]]]
 # --------------------------------------------------------------------------- the model
 
 
-def _unit_paragraphs(us: Any) -> list:
+def unit_confident(us: Any, floor: float) -> bool:
+    """True when the unit system is declared, or inferred with a confidence at or above ``floor``."""
+    if not isinstance(us, dict) or not us.get("name"):
+        return False
+    if us.get("declared"):
+        return True
+    try:
+        return float(us.get("confidence")) >= floor
+    except (TypeError, ValueError):
+        return False
+
+
+def _unit_paragraphs(us: Any, sure: bool = True) -> list:
     if not isinstance(us, dict) or not us:
         return [para("Unit system: not determined (no unit evidence in the deck).")]
     name = us.get("name")
     how = "declared" if us.get("declared") else "inferred"
     out = []
-    if name:
+    if name and not sure:
         conf = us.get("confidence")
-        line = [("b", visible(name)), text(f" ({how}"
-                                           + (f", confidence {float(conf):.2f}" if isinstance(conf, (int, float))
-                                              else "") + ")")]
+        out.append(P([text("Unit system: "), ("b", "not determined with confidence"),
+                      text(f" (best guess {visible(name)}, confidence "
+                           f"{float(conf) if isinstance(conf, (int, float)) else 0.0:.2f}). The SI values in this "
+                           "report assume this guess and may be off by powers of ten; declare the system "
+                           "(--units) to be sure.")]))
+    elif name:
+        conf = us.get("confidence")
+        shown = isinstance(conf, (int, float)) and how == "inferred"
+        line = [("b", visible(name)), text(f" ({how}" + (f", confidence {float(conf):.2f}" if shown else "") + ")")]
         out.append(P([text("Unit system: ")] + line))
     else:
         out.append(para("Unit system: not determined (too little evidence for a confident choice)."))
@@ -255,7 +273,7 @@ def _unit_paragraphs(us: Any) -> list:
     return out
 
 
-def model_section(fr, anchor: str) -> Section:
+def model_section(fr, anchor: str, sure: bool = True) -> Section:
     d = fr.details or {}
     summ = fr.summary if isinstance(fr.summary, dict) else {}
     sec = Section(anchor, [H(3, "The model", anchor)])
@@ -295,7 +313,7 @@ def model_section(fr, anchor: str) -> Section:
         sec.children.append(para("Analysis steps: " + ", ".join(visible(s) for s in summ["steps"])))
     else:
         sec.children.append(para("Analysis steps: none found."))
-    sec.children += [H(4, "Unit system")] + _unit_paragraphs(fr.unit_system)
+    sec.children += [H(4, "Unit system")] + _unit_paragraphs(fr.unit_system, sure)
     return sec
 
 
@@ -310,12 +328,20 @@ def usage_section(fr, anchor: str) -> Section:
                          or "no elements"])
         sec.children.append(Table(["Material", "Element types and counts"], rows))
         return sec
-    rows = []
+    rows: list[list[str]] = []
+    seen: dict[tuple, list] = {}
     for u in usage:
         for s in u.get("sections") or ():
             counts = ", ".join(f"{visible(k)} x {v}" for k, v in (s.get("counts") or {}).items()) or "no elements"
-            rows.append([visible(u.get("material")), f"{visible(s.get('card'))} at {where(s.get('path'), s.get('line'))}",
-                         visible(s.get("elset")), visible(s.get("role")), counts])
+            row = [visible(u.get("material")), f"{visible(s.get('card'))} at {where(s.get('path'), s.get('line'))}",
+                   visible(s.get("elset")), visible(s.get("role")), counts]
+            key = tuple(row)
+            if key in seen:  # the same material in several layers of one section: one row, counted
+                seen[key][1] += 1
+                seen[key][0][3] = f"{row[3]} ({seen[key][1]} times)"
+                continue
+            seen[key] = [row, 1]
+            rows.append(row)
     if rows:
         sec.children.append(Table(["Material", "Section", "Element set", "Role", "Element types and counts"], rows))
     unused = (fr.details or {}).get("unused_materials") or []

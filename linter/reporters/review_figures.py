@@ -34,7 +34,8 @@ def _pyplot():
             import matplotlib.pyplot as plt
 
             plt.rcParams.update({"svg.fonttype": "path", "svg.hashsalt": "deckwarden", "font.size": 9,
-                                 "axes.grid": True, "grid.alpha": 0.3, "xtick.minor.visible": False, "ytick.minor.visible": False})
+                                 "axes.grid": True, "grid.alpha": 0.3, "xtick.minor.visible": False,
+                                 "ytick.minor.visible": False})
             _MPL = plt
         except Exception:  # not installed, or broken: figures are skipped
             _MPL = False
@@ -147,7 +148,7 @@ def hyper_curves(rows: list[dict], stress_label: str) -> Optional[str]:
 
     fig, axes = plt.subplots(1, 3, figsize=(9.0, 3.2), sharey=False)
     fig.subplots_adjust(left=0.08, right=0.99, bottom=0.15, top=0.9, wspace=0.32)
-    lam = np.concatenate([np.linspace(0.3, 1.0, 120, endpoint=False), np.linspace(1.0, 3.0, 200)])
+    lam = np.concatenate([np.linspace(0.5, 1.0, 100, endpoint=False), np.linspace(1.0, 3.0, 200)])
     styles = ["-", "--", ":", "-."]
     for ax, mode in zip(axes, HS.MODES):
         for k, row in enumerate(rows[:4]):
@@ -164,11 +165,17 @@ def hyper_curves(rows: list[dict], stress_label: str) -> Optional[str]:
         ax.set_title(f"{HS.MODE_NAMES[mode]} ({mode})")
         ax.set_xlabel("stretch")
         ax.set_xlim(lam[0], lam[-1])
-        finite = np.concatenate([np.asarray(HS.nominal_stress(r["model"], mode, lam), float) for r in rows[:4]])
+        # the scale follows tension and moderate compression (stretch >= 0.7): near 0.5 some forms stiffen
+        # so much in compression that the tension part would be a flat line
+        inner = lam >= 0.7
+        with np.errstate(all="ignore"):
+            finite = np.concatenate([np.asarray(HS.nominal_stress(r["model"], mode, lam[inner]), float)
+                                     for r in rows[:4]])
         finite = finite[np.isfinite(finite)]
         if finite.size:
-            span = np.percentile(np.abs(finite), 98) or 1.0
-            ax.set_ylim(-1.1 * span, 1.1 * span)
+            lo_, hi_ = float(finite.min()), float(finite.max())
+            pad = 0.1 * (hi_ - lo_ or abs(hi_) or 1.0)
+            ax.set_ylim(lo_ - pad, hi_ + pad)
     axes[0].set_ylabel(f"nominal stress [{stress_label}]")
     if len(rows) > 1:
         axes[0].legend(fontsize=7)

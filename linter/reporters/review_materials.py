@@ -62,8 +62,20 @@ def _temp(t: Any) -> str:
     return "-" if t is None else given(t)
 
 
-def block_table(b: dict, units: Units) -> Table:
+def block_name(b: dict) -> str:
+    """The card as written, with the property kind and form when the card name does not say them."""
+    card, kind, form = visible(b.get("card") or ""), visible(b.get("kind") or ""), b.get("form")
+    what = [kind] if kind and kind.lower() not in card.lower().replace("*", "") else []
+    if form and form != "iso":
+        what.append(visible(form))
+    return f"{card} ({', '.join(what)})" if what and card else (card or ", ".join(what))
+
+
+def block_table(b: dict, units: Units):
     cols, qs = b.get("columns") or [], b.get("quantities") or []
+    if not b.get("rows"):
+        return para(f"{block_name(b)} at {where(b.get('path'), b.get('line'))}: "
+                    "no values read from it (see Not checked).")
     head = ["T", "line"] + [units.header(visible(c), q) for c, q in zip(cols, qs)]
     rows = []
     for r in b.get("rows") or ():
@@ -77,8 +89,7 @@ def block_table(b: dict, units: Units) -> Table:
                 c = (c if isinstance(c, str) else c[0]) + " (blank field)"
             cells.append(c)
         rows.append([_temp(r.get("T")), str(r.get("line") or "")] + cells)
-    form = "" if b.get("form") == "iso" else f", {visible(b.get('form'))}"
-    cap = f"{visible(b.get('card'))} ({visible(b.get('kind'))}{form}) at {where(b.get('path'), b.get('line'))}"
+    cap = f"{block_name(b)} at {where(b.get('path'), b.get('line'))}"
     return Table(head, rows, cls="constants", caption=cap)
 
 
@@ -114,7 +125,8 @@ def _binding(row: dict) -> str:
 def aniso_tables(entries: list[dict], units: Units, quantity: str = "stress", what: str = "stiffness") -> list:
     out = []
     for e in entries:
-        head = ["T", "line", units.header("smallest eigenvalue", quantity), units.header("largest eigenvalue", quantity),
+        head = ["T", "line", units.header("smallest eigenvalue", quantity),
+                units.header("largest eigenvalue", quantity),
                 "condition number", "positive definite", "bound"]
         rows = []
         for r in e.get("rows") or ():
@@ -148,7 +160,7 @@ def hyper_table(h: dict, units: Units) -> list:
         if r.get("D_defaulted"):
             dtext += " (solver default for a zero D)"
         st = r.get("stability") or {}
-        unstable = "; ".join(_stretches((st.get(m) or {}).get("unstable")) for m in ("UT", "ET", "PS")) \
+        unstable = "; ".join(f"{m} {_stretches((st.get(m) or {}).get('unstable'))}" for m in ("UT", "ET", "PS")) \
             if st else "not scanned"
         body.append([_temp(r.get("temperature")), str(r.get("line") or "")] +
                     [units.cell(r.get(k), q) for k, _h, q in HYPER_COLUMNS] + [dtext, unstable])
@@ -319,25 +331,31 @@ def admissibility_figure(fr, units: Units, band_nu: float) -> tuple[Optional[Fig
     if not points:
         return None, None
     svg = FIG.admissibility_map(points, units.si_labels.get("stress", "Pa") if factor else "deck units", band_nu)
-    table = Table(["#", "Material", "T", "Kind", units.header("E", "stress"), "nu", "on locking elements"], key,
+    table = Table(["#", "Material", "T", "Kind", units.header("E", "stress"), "nu", "on elements prone to locking"],
+                  key,
                   caption="Key to the admissibility map")
     if not svg:
         return None, table
     return Figure(svg, "Admissibility map: every isotropic row (circles) and hyperelastic initial values "
                        "(diamonds). Green: admissible (K > 0, G > 0, -1 < nu < 1/2); orange: nearly "
-                       "incompressible band; red strips: not admissible. A red ring marks a material on "
-                       "elements that lock (severe or mild grade)."), table
+                       "incompressible band; red strips: not admissible. A red ring marks a material on element "
+                       "types prone to volumetric locking (severe or mild grade), where a nearly incompressible "
+                       "material makes them lock."), table
 
 
-def materials_part(fr, deck_anchor: str, figures: bool, band_nu: float) -> tuple[list, list]:
+def materials_part(fr, deck_anchor: str, figures: bool, band_nu: float, sure: bool = True) -> tuple[list, list]:
     """Sections of the materials of one deck and their (anchor, title) for the contents."""
     units = Units((fr.details or {}).get("units"))
     out, toc = [], []
     head = Section(f"{deck_anchor}-materials", [H(3, "Materials", f"{deck_anchor}-materials")])
     named = (fr.unit_system or {}).get("name") if isinstance(fr.unit_system, dict) else None
-    if units.system and units.to_si:
+    if units.system and units.to_si and sure:
         head.children.append(para(f"Values are shown as given, in the deck's units ({visible(units.system)}); "
                                   "below each, in smaller type, the same value in SI."))
+    elif units.system and units.to_si:
+        head.children.append(para(f"Values are shown as given; below each, in smaller type, the value in SI "
+                                  f"if the deck's units are {visible(units.system)}, which is only a guess (see "
+                                  "the unit system above)."))
     elif named:
         head.children.append(para(f"Values are shown as given, in the deck's units ({visible(named)})."))
     else:

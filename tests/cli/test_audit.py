@@ -108,7 +108,8 @@ def test_material_tables_show_the_engines_derived_values(samples_result):
 
 
 def test_si_conversion_of_the_deck_units(samples_result):
-    # 1 MPa = 1e6 Pa and 1 t/mm^3 = 1e12 kg/m^3 (SI prefixes, BIPM SI Brochure 9th ed., table 7), cross-checked with pint
+    # 1 MPa = 1e6 Pa and 1 t/mm^3 = 1e12 kg/m^3 (SI prefixes: BIPM SI Brochure, 9th ed., table 7);
+    # the factors are taken from pint here, an outside reference library
     pint = pytest.importorskip("pint")
     ureg = pint.UnitRegistry()
     stress = ureg.Quantity(1, "MPa").to("Pa").magnitude

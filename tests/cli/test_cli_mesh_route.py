@@ -68,3 +68,12 @@ def test_sample_folder_still_exits_1(capsys):
     code, doc = run_json(["check", str(SAMPLE)], capsys)
     assert code == 1
     assert any(f["path"].endswith("pv40_seal_housing.yaml") and f["format"] == "mesh" for f in doc["files"])
+
+
+def test_jobs_2_gives_the_same_report(folder, capsys):
+    shutil.copy(folder / "pv40_seal_housing.yaml", folder / "second.yaml")
+    code1, one = run_json(["check", "."], capsys)
+    code2, two = run_json(["check", ".", "--jobs", "2"], capsys)
+    assert code1 == code2 == 0
+    assert [f["summary"] for f in one["files"]] == [f["summary"] for f in two["files"]]
+    assert len(two["files"]) == 2

@@ -136,3 +136,30 @@ def test_blank_fields_and_comment_lines_inside_a_block(write_deck):
     np.testing.assert_array_equal(gid, [1, 2])
     np.testing.assert_array_equal(xyz, [[1.5, 0.0, 2.0], [3.0, 4.0, 5.0]])
     np.testing.assert_array_equal(m.element_blocks[0].conn.get(), [[1, 2]])
+
+
+@pytest.mark.parametrize("piece", [0, 300])
+def test_explicit_step_smallest_edge_read_piece_by_piece(write_deck, monkeypatch, piece):
+    # the explicit time-step rule goes over the element blocks piece by piece; the smallest edge must be
+    # the one computed here with numpy from the written mesh
+    from linter.check import check_paths
+    from linter.parsers.keyword import mesh as KM
+
+    if piece:
+        monkeypatch.setattr(KM, "STREAM_PIECE", piece)
+    G = load("gen_decks")
+    coords, conn = G.mesh(8, 6, 5)
+    coords = coords + np.random.default_rng(5).uniform(-0.4, 0.4, coords.shape)
+    edges = [(0, 1), (1, 2), (2, 3), (3, 0), (4, 5), (5, 6), (6, 7), (7, 4), (0, 4), (1, 5), (2, 6), (3, 7)]
+    half = len(conn) // 2
+    want = [min(np.linalg.norm(coords[c[:, a] - 1] - coords[c[:, b] - 1], axis=1).min() for a, b in edges)
+            for c in (conn[:half], conn[half:])]
+    fh = io.StringIO()
+    L.keyword_mesh(fh, coords, conn, "C3D8", "comma-blank", elsets=[("A", 0, half), ("B", half, len(conn))])
+    for name, e in (("M1", 210000.0), ("M2", 70000.0)):
+        fh.write(f"*MATERIAL, NAME={name}\n*ELASTIC\n{e}, 0.3\n*DENSITY\n7.85e-9\n")
+    fh.write("*SOLID SECTION, ELSET=A, MATERIAL=M1\n*SOLID SECTION, ELSET=B, MATERIAL=M2\n"
+             "*STEP\n*DYNAMIC, EXPLICIT\n1.e-7, 1.e-4\n*END STEP\n")
+    res = check_paths([str(write_deck("x.inp", fh.getvalue()))])
+    got = {f.material: f.data["length"] for f in res.findings if f.rule == "analysis/explicit-time-step"}
+    assert got["M1"] == pytest.approx(want[0], rel=1e-6) and got["M2"] == pytest.approx(want[1], rel=1e-6)

@@ -315,3 +315,17 @@ def test_med_groups_by_name(tmp_path):
     metal = [t for t, names in ref.cell_tags.items() if "metal" in names]
     n_metal = sum(int(np.isin(np.asarray(a).ravel(), metal).sum()) for a in ref.cell_data["cell_tags"])
     assert counts_by_region(model) == {1: {"hexahedron": n_metal}, 2: {"tetra": 24}}
+
+
+def test_mesh_outside_the_include_root_is_refused(tmp_path, monkeypatch):
+    from linter.parsers.mesh import meshfile
+
+    inner = tmp_path / "model"
+    inner.mkdir()
+    meshio.write(tmp_path / "outside.vtu", plain(block_mesh()))
+    yaml_path = material_file(inner, "../outside.vtu", {1: ("{all: true}", "STEEL")})
+    monkeypatch.setattr(meshfile, "_reader", lambda fmt: pytest.fail("meshio was called"))
+    opts = ParseOptions(dialect="meshio", include=IncludePolicy(root=str(inner)), display_path=str(yaml_path))
+    model = mesh_parser.parse(str(yaml_path), opts)
+    (iss,) = [i for i in model.issues if i.code == "include-refused"]
+    assert iss.loc.line == 2 and "outside the include root" in iss.message

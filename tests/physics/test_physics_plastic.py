@@ -3,6 +3,7 @@ import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
+from linter.derived.units.infer import load_data
 from linter.physics import plastic as P
 
 # 6061-T6 aluminium, engineering stress (MPa) against engineering strain: the representative points of
@@ -61,15 +62,24 @@ def test_groups_slopes_and_order_checks():
     assert P.hardening_slopes([300, 320], [0, 0.01]) == pytest.approx([2000.0])
 
 
-def test_material_class_from_modulus_and_density():
-    # handbook values of physics.md 5.5 (EN 1993-1-1 steel, ASM 6061-T6, PA66 data sheet)
-    assert P.material_class(210000.0, 7.85e-9) == "metal"      # steel, mm-t-s
-    assert P.material_class(2.1e11, 7850.0) == "metal"         # steel, SI
-    assert P.material_class(68900.0, 2.7e-9) == "metal"        # Al 6061-T6, mm-t-s
-    assert P.material_class(3000.0, 1.13e-9) == "polymer"      # PA66, mm-t-s
-    assert P.material_class(210000.0) == "unknown"             # E alone fits several systems
-    assert P.material_class(-1.0, 7850.0) == "unknown"
+def _class(E, rho=None):
+    # the unit systems and class bands of linter/data/units.yaml, as the plastic rules use them
+    data = load_data()
+    bands = {c: {q: data.band(c, q) for q in ("E", "rho")} for c in ("metal", "polymer")}
+    return P.material_class(E, rho, data.scales("stress"), data.scales("density"), bands)
 
+
+def test_material_class_from_modulus_and_density():
+    # handbook values: steel E = 210 GPa, rho = 7850 kg/m^3 (EN 1993-1-1, 3.2.6), Al 6061-T6 E = 68.9 GPa,
+    # rho = 2700 kg/m^3 (ASM Handbook), PA66 E = 3 GPa, rho = 1130 kg/m^3 (a typical data sheet, from memory)
+    assert _class(210000.0, 7.85e-9) == "metal"      # steel, mm-t-s
+    assert _class(2.1e11, 7850.0) == "metal"         # steel, SI
+    assert _class(68900.0, 2.7e-9) == "metal"        # Al 6061-T6, mm-t-s
+    assert _class(3000.0, 1.13e-9) == "polymer"      # PA66, mm-t-s
+    assert _class(210000.0) == "unknown"             # E alone fits several systems
+    assert _class(-1.0, 7850.0) == "unknown"
+    # lead, E = 16 GPa, rho = 11340 kg/m^3 (from memory): a metal in the one band of units.yaml (from 10 GPa)
+    assert _class(1.6e10, 11340.0) == "metal"
 
 
 @settings(max_examples=60, deadline=None)

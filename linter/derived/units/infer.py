@@ -72,6 +72,11 @@ class UnitData:
                 return i
         return None
 
+    def band(self, cls: str, quantity: str) -> tuple[float, float]:
+        """(lo, hi) in SI of ``quantity`` for material class ``cls`` (nan, nan when the class has none)."""
+        i = self.class_names.index(cls)
+        return float(self.lo[quantity][i]), float(self.hi[quantity][i])
+
     def scales(self, dim: str) -> np.ndarray:
         """Scale factors to SI of ``dim`` for every system (read-only; computed once per dimension)."""
         sc = self._scales.get(dim)

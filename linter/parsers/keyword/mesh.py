@@ -17,6 +17,8 @@ from .lex import KeywordLine, Reader, is_int
 LONG_TYPES = {"C3D20": 20, "C3D20R": 20, "C3D20RI": 20, "DC3D20": 20, "C3D20T": 20, "C3D20RT": 20,
               "C3D15": 15, "DC3D15": 15, "F3D20": 20}
 MAX_INT_DIGITS = 10
+#: bytes of element lines per piece when a rule goes over a block piece by piece (bounded memory)
+STREAM_PIECE = 2 << 20
 MAX_GENERATE = 50_000_000
 
 
@@ -26,23 +28,22 @@ def numbers(chunk: bytes) -> np.ndarray:
     return rows.values(rows.compact(chunk))
 
 
-def _ints(data: bytes, start: int, end: int, width: int, count: int, per_line: bool) -> np.ndarray:
-    """(elements, width) int64 table: number and nodes, grouped into elements as CalculiX does
-    (``rows``). ``per_line`` (the first line holds a whole element): ``count`` rows, one per data
-    line, when CalculiX's grouping does not give that many (fields after the last node are not read)."""
+def _ints(data: bytes, start: int, end: int, width: int, per_line: bool) -> np.ndarray:
+    """(elements, width) int64 table: number and nodes, grouped into elements as CalculiX does (``rows``);
+    ``per_line``: one element per data line (the usual layouts; fields after the last node are not read)."""
     width = max(width, 1)
-    tabs = [t for t, _inc in rows.element_tables(data, start, end, width)]
-    tab = np.concatenate(tabs) if len(tabs) > 1 else tabs[0] if tabs else np.zeros((0, width), dtype=np.int64)
-    if per_line and tab.shape[0] != count:       # a short line further down: one element per line anyway
-        c = rows.compact(data[start:end])
-        cnt = rows.fields_per_line(c)
-        vals = rows.values(c, integer=True)
-        first = np.cumsum(cnt) - cnt
-        tab = np.zeros((cnt.size, width), dtype=np.int64)
-        for j in range(width):
-            has = cnt > j
-            tab[has, j] = vals[first[has] + j]
-    return tab
+    tabs = [t for t, _inc in rows.element_tables(data, start, end, width, per_line=per_line)]
+    return np.concatenate(tabs) if len(tabs) > 1 else tabs[0] if tabs else np.zeros((0, width), dtype=np.int64)
+
+
+def _pieces(table: Lazy, data: bytes, start: int, end: int, width: int, per_line: bool):
+    """(ids, connectivity) of a block piece by piece (the whole table when it is loaded already)."""
+    if table.loaded:
+        tab = table.get()
+        yield tab[:, 0], tab[:, 1:]
+        return
+    for tab, _inc in rows.element_tables(data, start, end, max(width, 1), STREAM_PIECE, per_line):
+        yield tab[:, 0], tab[:, 1:]
 
 
 def read_element(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: int, dialect: str,
@@ -78,11 +79,12 @@ def read_element(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: 
     width = nodes + 1
     data = rd.data
     per_line = not spans
-    table = Lazy(lambda: _ints(data, start, end, width, count, per_line))
+    table = Lazy(lambda: _ints(data, start, end, width, per_line))
     elset_w = kw.get("ELSET")
     blk = ElementBlock(type=etype, type_as_written=etype_w, count=count, loc=kw.loc,
                        elset=norm_key(elset_w) if elset_w else None, nodes=nodes,
-                       ids=Lazy(lambda: table.get()[:, 0].copy()), conn=Lazy(lambda: table.get()[:, 1:]))
+                       ids=Lazy(lambda: table.get()[:, 0].copy()), conn=Lazy(lambda: table.get()[:, 1:]),
+                       pieces=lambda: _pieces(table, data, start, end, width, per_line))
     model.element_blocks.append(blk)
     if elset_w:
         es = _set(model, elset_w, kw.loc)
@@ -199,6 +201,11 @@ def _node_sample(data: bytes, start: int, end: int, n_lines: int) -> np.ndarray:
 
 
 def _all_nodes(ranges) -> tuple[np.ndarray, np.ndarray]:
-    tabs = [rows.node_table(c) for d, s, e in ranges for c, _last in rows.pieces(d, s, e)]
-    tab = np.concatenate(tabs) if tabs else np.zeros((0, 4))
-    return rows.to_int(tab[:, 0]), tab[:, 1:]
+    total = sum(d.count(b"\n", s, e) + 1 for d, s, e in ranges)     # at least the data lines
+    gid, xyz, n = np.zeros(total, dtype=np.int64), np.zeros((total, 3)), 0
+    for d, s, e in ranges:                  # filled piece by piece: no full-size temporary
+        for c, _last in rows.pieces(d, s, e):
+            tab = rows.node_table(c)
+            gid[n:n + tab.shape[0]], xyz[n:n + tab.shape[0]] = rows.to_int(tab[:, 0]), tab[:, 1:]
+            n += tab.shape[0]
+    return gid[:n], xyz[:n]

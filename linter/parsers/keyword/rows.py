@@ -31,8 +31,10 @@ def compact(chunk: bytes) -> bytes:
     c = chunk.translate(None, b" \t\r")
     if not c.endswith(b"\n"):
         c += b"\n"
-    if b"**" in c:
+    if b"*" in c and b"**" in c:                  # one-byte searches are the fast ones
         c = _COMMENT.sub(b"", c)
+    if not _adjacent(c):                          # the usual case: nothing else to remove
+        return c
     if c.startswith(b",") or b"\n," in c:
         c = _ONLY_COMMAS.sub(b"", c)
     if b",\n" in c:
@@ -40,6 +42,13 @@ def compact(chunk: bytes) -> bytes:
     while b"\n\n" in c:
         c = c.replace(b"\n\n", b"\n")
     return c[1:] if c.startswith(b"\n") else c
+
+
+def _adjacent(c: bytes) -> bool:
+    """Whether the chunk starts with a separator (comma, newline) or has two in a row (a numpy pass)."""
+    b = np.frombuffer(c, np.uint8)
+    sep = (b == 44) | (b == 10)
+    return bool(sep[:1].any()) or bool((sep[1:] & sep[:-1]).any())
 
 
 def fields_per_line(c: bytes) -> np.ndarray:
@@ -55,11 +64,20 @@ def values(c: bytes, integer: bool = False) -> np.ndarray:
     if not c:
         return np.zeros(0, dtype=np.int64 if integer else float)
     flat = c[:-1].replace(b"\n", b",")
-    if b",," in flat or flat.startswith(b",") or flat.endswith(b","):     # blank fields read as 0
-        flat = flat.replace(b",,", b",0,").replace(b",,", b",0,")
-        flat = (b"0" if flat.startswith(b",") else b"") + flat + (b"0" if flat.endswith(b",") else b"")
     n = flat.count(b",") + 1
-    if not integer and (b"d" in flat or b"D" in flat):                 # Fortran D exponents
+    arr = _parse(flat, n, integer)              # a blank field makes it fail (no blanks are left to misread)
+    if arr is None and (b",," in flat or flat.startswith(b",") or flat.endswith(b",")):
+        flat = flat.replace(b",,", b",0,").replace(b",,", b",0,")          # blank fields read as 0
+        flat = (b"0" if flat.startswith(b",") else b"") + flat + (b"0" if flat.endswith(b",") else b"")
+        arr = _parse(flat, n, integer)
+    if arr is None:
+        arr = _one_by_one(flat)
+        arr = to_int(arr) if integer else arr
+    return arr
+
+
+def _parse(flat: bytes, n: int, integer: bool) -> Optional[np.ndarray]:
+    if b"d" in flat or b"D" in flat:                                    # Fortran D exponents
         flat = flat.replace(b"D", b"E").replace(b"d", b"e")
     for dtype in ((np.int64, float) if integer else (float,)):
         with warnings.catch_warnings():
@@ -70,8 +88,7 @@ def values(c: bytes, integer: bool = False) -> np.ndarray:
                 continue
         if arr.size == n:
             return to_int(arr) if integer and dtype is float else arr
-    arr = _one_by_one(flat)
-    return to_int(arr) if integer else arr
+    return None
 
 
 def _one_by_one(flat: bytes) -> np.ndarray:
@@ -175,11 +192,30 @@ def pieces(data: bytes, start: int, end: int, size: int = 0) -> Iterator[tuple[b
         at = stop
 
 
-def element_tables(data: bytes, start: int, end: int, width: int, size: int = 0
+def line_rows(c: bytes, width: int) -> np.ndarray:
+    """One element per line of a compacted chunk: the first ``width`` fields of each line (missing ones 0)."""
+    cnt = fields_per_line(c)
+    vals = values(c, integer=True)
+    if (cnt == width).all():
+        return vals.reshape(-1, width)
+    first = np.cumsum(cnt) - cnt
+    tab = np.zeros((cnt.size, width), dtype=np.int64)
+    for j in range(width):
+        has = cnt > j
+        tab[has, j] = vals[first[has] + j]
+    return tab
+
+
+def element_tables(data: bytes, start: int, end: int, width: int, size: int = 0, per_line: bool = False
                    ) -> Iterator[tuple[np.ndarray, bool]]:
-    """(table piece, last element incomplete) of an ``*ELEMENT`` block, piece by piece."""
+    """(table piece, last element incomplete) of an ``*ELEMENT`` block, piece by piece.
+
+    ``per_line``: one element per line (the block's layout was found to be so), no grouping."""
     carry = b""
     for c, last in pieces(data, start, end, size):
+        if per_line:
+            yield line_rows(c, width), False
+            continue
         c = carry + c
         tab, n_used, incomplete = table(c, width, final=last)
         carry = c[_tail(c, n_used):] if not last else b""

@@ -132,7 +132,10 @@ def _mesh(doc, got: dict, given: Optional[str], yaml_path: str, options):
         if res.status != "ok":
             code = {"missing": "missing-include", "refused": "include-refused",
                     "directory": "include-directory"}.get(res.status, "include-unreadable")
-            text = res.message.replace("include", "mesh").replace("included file", "mesh file")
+            text = {"missing": f"mesh file '{written}' not found (looked for {res.path})",
+                    "refused": f"mesh '{written}' resolves outside the include root {options.include.root}; "
+                               "refused (allow it with --allow-include-outside or include_root)",
+                    "directory": f"mesh '{written}' names a directory, not a file"}.get(res.status, res.message)
             model.issues.append(Issue(code, text, loc, data={"include": written}))
             return None
         display = resolved = res.path
