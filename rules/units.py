@@ -34,6 +34,7 @@ def _problems(model, kind, ctx=None):
 
 
 @rule("units/mismatch", severity="error",
+      thresholds=("units.min_confidence",),
       escalation="warning when the unit system was inferred with low confidence (the finding names the system "
                  "assumed); note when no element uses the material or no analysis of the deck reads the quantity",
       title="Values of one model written in different unit systems",
@@ -53,6 +54,7 @@ def mismatch(model, ctx):
 
 
 @rule("units/implausible", severity="warning",
+      thresholds=("units.min_confidence",),
       escalation="note when no element uses the material or no analysis of the deck reads the value", title="A value outside every plausible range in the unit system",
       rationale="Judged against the bands of the material's best-fitting class (metal, mineral, polymer, "
                 "composite, elastomer, foam, fluid) in the inferred or declared system, the value is "
@@ -65,7 +67,8 @@ def implausible(model, ctx):
         yield ctx.finding(p.message, p.loc, material=p.material, data=p.data, severity=p.severity)
 
 
-@rule("units/gravity", severity="warning", title="Gravity magnitude that does not fit the unit system",
+@rule("units/gravity", severity="warning",
+      thresholds=("units.min_confidence",), title="Gravity magnitude that does not fit the unit system",
       rationale="Standard gravity is 9.80665 m/s^2: 9806.65 in mm/s^2, 9.80665e-3 in mm/ms^2, 386.09 in "
                 "in/s^2. 9.81 in a millimetre-tonne-second model is a thousand times too weak.",
       references=REFS + ("physics.md 5.3 (gravity fixes L/T^2)",),
