@@ -167,6 +167,10 @@ class Catalogue:
             if (t.family == tech.family and t.locking == "none" and t.type != tech.type
                     and any(d in t.dialects for d in dialects) and t.type not in out):
                 out.append(t.type)
+        if "/" in tech.type:   # code_aster FORMULATION/CELL: the formulations for the same cell come first
+            cell = tech.type.rsplit("/", 1)[1]
+            same = [t for t in out if t.endswith("/" + cell)]
+            return same or out
         return out
 
     def types(self, dialect: Optional[str] = None) -> list[str]:

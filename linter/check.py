@@ -7,13 +7,12 @@ from __future__ import annotations
 
 import os
 import time
-import traceback
 from typing import Any, Optional
 
 from . import parsers, registry
 from .config import Config
 from .discovery import discover, general_finding, make_policy
-from .findings import FileReport, Finding, RunResult, jsonable
+from .findings import FileReport, Finding, RunResult, jsonable, raised_at
 from .parsers.includes import IncludePolicy
 from .parsers.sources import SourceError
 
@@ -58,8 +57,7 @@ def check_file(path: str, fmt: str, config: Config, policy: IncludePolicy, detai
         report.seconds = time.perf_counter() - t0
         return report
     except Exception as exc:
-        tb = traceback.extract_tb(exc.__traceback__)
-        where = f"{tb[-1].filename.rsplit('/', 1)[-1]}:{tb[-1].lineno}" if tb else ""
+        where = raised_at(exc)
         report.findings = [Finding(
             rule="internal/parser-failed", severity="error",
             message=f"the {fmt} parser failed on this file ({type(exc).__name__}: {exc}); nothing in it was checked",
@@ -70,6 +68,13 @@ def check_file(path: str, fmt: str, config: Config, policy: IncludePolicy, detai
     found = derive_all(model, config)
     found += run_rules(model, config)
     report.findings = finalize(found, config) if found else []
+    if getattr(config, "inline_suppressions", True):
+        from .suppressions import apply
+
+        notes = [f for f in apply(model, report.findings, getattr(mod, "COMMENT_PREFIXES", ()))
+                 if config.rule_enabled(f.rule)]
+        if notes:
+            report.findings = finalize(report.findings + notes, config)
     report.dialect = model.dialect
     report.materials = material_summary(model)
     report.unchecked = [{"what": u.what, "path": u.loc.path, "line": u.loc.line, "reason": u.reason,

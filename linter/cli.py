@@ -46,6 +46,8 @@ def build_parser() -> argparse.ArgumentParser:
     _config_options(c)
     c.add_argument("--materials", metavar="FILE",
                    help="material file (deckwarden: 1) for the mesh files given (Gmsh, VTK, XDMF, MED ...)")
+    c.add_argument("--no-inline-suppressions", action="store_true",
+                   help="ignore every suppression comment in the decks (to see what a supplier silenced)")
     c.add_argument("--no-color", action="store_true", help="no colour in the text report")
 
     a = sub.add_parser("audit", help="the reviewer's audit of decks: one self-contained HTML file",
@@ -265,6 +267,8 @@ def cmd_check(args) -> int:
     from .findings import exit_code
 
     cfg = _config(args)
+    if args.no_inline_suppressions:
+        cfg.inline_suppressions = False
     if args.output and os.path.realpath(args.output) in {os.path.realpath(p) for p in args.paths}:
         raise UsageError(f"--output {args.output}: is one of the paths to check; deckwarden never writes its input")
     fmt = _report_format(args)

@@ -130,6 +130,8 @@ class Config:
     per_path: list[dict] = field(default_factory=list)
     #: material file for the meshes given on the command line (``--materials``); not a configuration key
     materials: Optional[str] = None
+    #: honour suppression comments in the decks (``--no-inline-suppressions``: False); not a file key
+    inline_suppressions: bool = True
     #: the file this configuration came from (None: defaults)
     source: Optional[str] = None
     #: key -> where its value came from (file and line, or a command-line option); absent: the default

@@ -32,6 +32,17 @@ class Finding:
     data: dict[str, Any] = field(default_factory=dict)
     defect: Optional[tuple] = None
     restates: tuple = ()
+    #: set when a comment in the deck accepts the finding: {"rules", "scope", "reason", "path", "line"}
+    suppression: Optional[dict[str, Any]] = None
+    #: the finding's identity across edits that shift lines (``linter/fingerprint.py``)
+    fingerprint: Optional[str] = None
+    #: the finding is recorded in the baseline given with ``--baseline``
+    baseline: bool = False
+
+    @property
+    def active(self) -> bool:
+        """Counts for the exit code and the severity totals: neither suppressed nor in the baseline."""
+        return self.suppression is None and not self.baseline
 
     def sort_key(self) -> tuple:
         return (self.path or "", self.line or 0, -SEVERITY_RANK.get(self.severity, 0), self.rule)
@@ -144,8 +155,18 @@ def jsonable(value: Any) -> Any:
     return encodable(str(value))
 
 
+def raised_at(exc: BaseException) -> str:
+    """``file.py:line`` of the innermost frame of ``exc``'s traceback ('' without one): where an internal
+    failure happened, for the ``where`` field of ``internal/*`` findings."""
+    import traceback
+
+    tb = traceback.extract_tb(exc.__traceback__)
+    return f"{tb[-1].filename.rsplit('/', 1)[-1]}:{tb[-1].lineno}" if tb else ""
+
+
 def exit_code(result: RunResult, fail_on: str) -> int:
     if result.incomplete:
         return 2
     level = SEVERITY_RANK[fail_on]
-    return 1 if any(SEVERITY_RANK.get(f.severity, 0) >= level for f in result.findings) else 0
+    return 1 if any(SEVERITY_RANK.get(f.severity, 0) >= level and getattr(f, "active", True)
+                    for f in result.findings) else 0

@@ -7,12 +7,11 @@
 """
 from __future__ import annotations
 
-import traceback
 from typing import Optional
 
 from . import registry
 from .context import Context
-from .findings import Finding
+from .findings import Finding, raised_at
 from .model import DeckModel
 
 
@@ -40,8 +39,7 @@ def run_rules(model: DeckModel, config) -> list[Finding]:
             for f in r.func(model, ctx) or ():
                 found.append(f)
         except Exception as exc:  # contained: one failing rule must not hide the others
-            tb = traceback.extract_tb(exc.__traceback__)
-            where = f"{tb[-1].filename.rsplit('/', 1)[-1]}:{tb[-1].lineno}" if tb else ""
+            where = raised_at(exc)
             found.append(Finding(
                 rule="internal/rule-failed", severity="error",
                 message=f"rule {r.id} failed on this deck ({type(exc).__name__}: {exc}); "

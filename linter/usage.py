@@ -54,6 +54,26 @@ def _ids_of(model: DeckModel, i: int) -> np.ndarray:
     return blk.ids.get()
 
 
+def _unique(a: np.ndarray) -> np.ndarray:
+    """Sorted unique ids; an array that is already strictly increasing is returned as is (no sort)."""
+    a = np.asarray(a)
+    if a.size < 2 or bool((a[1:] > a[:-1]).all()):
+        return a
+    return np.unique(a)
+
+
+def _members(ids: np.ndarray, wanted: np.ndarray) -> np.ndarray:
+    """``np.isin(ids, wanted)`` for sorted unique ``wanted``; a block of consecutive ids is done by indexing."""
+    n = ids.size
+    if n and int(ids[-1]) - int(ids[0]) == n - 1 and bool((np.diff(ids) == 1).all()):
+        lo = int(ids[0])
+        inside = wanted[(wanted >= lo) & (wanted <= lo + n - 1)]
+        mask = np.zeros(n, bool)
+        mask[inside - lo] = True
+        return mask
+    return np.isin(ids, wanted, assume_unique=False)
+
+
 def resolve_set(model: DeckModel, key: str, _seen: Optional[set] = None) -> Optional[Selection]:
     """The elements of set ``key``; None when the set does not exist."""
     cache = model.derived.setdefault("_sets", {})
@@ -75,13 +95,13 @@ def resolve_set(model: DeckModel, key: str, _seen: Optional[set] = None) -> Opti
             for i, m in inner.parts.items():
                 sel.add_block(i) if m is None else sel.add_mask(i, m)
     if es.ids:
-        wanted = np.unique(np.concatenate(es.ids)) if len(es.ids) > 1 else np.unique(es.ids[0])
+        wanted = _unique(np.concatenate(es.ids) if len(es.ids) > 1 else es.ids[0])
         for i in range(len(model.element_blocks)):
             if sel.parts.get(i, 0) is None:
                 continue
             ids = _ids_of(model, i)
             if ids.size:
-                sel.add_mask(i, np.isin(ids, wanted, assume_unique=False))
+                sel.add_mask(i, _members(ids, wanted))
     cache[key] = sel
     return sel
 

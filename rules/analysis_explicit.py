@@ -17,12 +17,9 @@ from linter.physics import mesh as M
 from linter.registry import rule
 from linter.rules.analysis import used_materials
 from linter.usage import material_usage, resolve_set
+from ._text import short
 
 BLM = "Belytschko, Liu & Moran 2000 ch. 6, as cited in physics.md 6.3"
-
-
-def _fmt(x) -> str:
-    return f"{x:.4g}" if x is not None and math.isfinite(x) else str(x)
 
 
 def smallest_length(model, key: str) -> Optional[float]:
@@ -128,7 +125,7 @@ def explicit_time_step(model, ctx):
         if estimated:
             L = guess
         if L is None:
-            yield ctx.finding(f"material {mat.name}: c_d = {_fmt(cd)}; the element size is not known, so the "
+            yield ctx.finding(f"material {mat.name}: c_d = {short(cd)}; the element size is not known, so the "
                               f"stable time increment of step {step.name} could not be estimated",
                               mat.loc, material=mat.name,
                               data={"length": None, "length_estimated": True, "cd": cd, "cs": cs, "dt": None,
@@ -137,15 +134,15 @@ def explicit_time_step(model, ctx):
         dt = float(D.stable_time_step(L, cd))
         dts = float(D.stable_time_step(L, cs))
         ratio = dts / dt if dt > 0 else math.inf
-        where = (f"estimated element length {_fmt(L)} (bounding box over {total} elements; element lengths "
-                 "not available)" if estimated else f"smallest element edge {_fmt(L)}")
-        msg = (f"material {mat.name} in explicit step {step.name}: stable time increment about {_fmt(dt)} "
-               f"({where}, dilatational wave speed {_fmt(cd)} from {source}; deck units)")
+        where = (f"estimated element length {short(L)} (bounding box over {total} elements; element lengths "
+                 "not available)" if estimated else f"smallest element edge {short(L)}")
+        msg = (f"material {mat.name} in explicit step {step.name}: stable time increment about {short(dt)} "
+               f"({where}, dilatational wave speed {short(cd)} from {source}; deck units)")
         sev = None
         if ratio > limit:
             sev = "warning"
-            msg += (f"; near-incompressibility makes it {_fmt(ratio)} times smaller than the shear-wave "
-                    f"estimate {_fmt(dts)}")
+            msg += (f"; near-incompressibility makes it {short(ratio)} times smaller than the shear-wave "
+                    f"estimate {short(dts)}")
         yield ctx.finding(msg, mat.loc, material=mat.name, severity=sev,
                           data={"length": L, "length_estimated": estimated, "cd": cd, "cs": cs, "dt": dt,
                                 "dt_shear": dts, "ratio": ratio, "source": source})

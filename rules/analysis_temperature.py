@@ -8,6 +8,7 @@ import numpy as np
 
 from linter.registry import rule
 from linter.rules.analysis import has_expansion, initial_values, used_materials
+from ._text import short
 
 CCX_T = "CalculiX User's Manual *MATERIAL: outside the table the value is held constant (formats.md 2.1)"
 NAS_T = "Nastran TABLEM/TABLES1: linear extrapolation in some dialects (formats.md 5.3)"
@@ -16,10 +17,6 @@ NAS_EXP = "Nastran MAT1 TREF (formats.md 5.1)"
 TABLE_KINDS = ("elastic", "expansion", "conductivity", "specific_heat", "density", "plastic")
 WORDS = {"elastic": "elastic", "expansion": "expansion", "conductivity": "conductivity",
          "specific_heat": "specific heat", "density": "density", "plastic": "hardening"}
-
-
-def _fmt(x) -> str:
-    return f"{x:.4g}" if x is not None and math.isfinite(x) else str(x)
 
 
 def analysis_temperatures(model) -> list[tuple[float, str, object]]:
@@ -84,14 +81,14 @@ def temperature_outside_table(model, ctx):
                 continue
             k = int(np.argmax(np.where(out, np.maximum(rng[0] - values, values - rng[1]), -np.inf)))
             val, where, _loc = temps[k]
-            msg = (f"material {mat.name}: {where} = {_fmt(val)} is outside the {WORDS[kind]} table "
-                   f"({_fmt(rng[0])}..{_fmt(rng[1])}, line {blk.loc.line})")
+            msg = (f"material {mat.name}: {where} = {short(val)} is outside the {WORDS[kind]} table "
+                   f"({short(rng[0])}..{short(rng[1])}, line {blk.loc.line})")
             e_ext = extrapolated_E(blk, val)
             if e_ext is not None:
                 if e_ext <= 0:
-                    msg += f"; linear extrapolation would give E = {_fmt(e_ext)} <= 0"
+                    msg += f"; linear extrapolation would give E = {short(e_ext)} <= 0"
                 else:
-                    msg += f"; linear extrapolation gives E = {_fmt(e_ext)}"
+                    msg += f"; linear extrapolation gives E = {short(e_ext)}"
                 if model.dialect == "calculix":
                     msg += " (CalculiX holds the end value instead)"
             if loads:
@@ -129,5 +126,5 @@ def expansion_reference(model, ctx):
             continue  # constant alpha: eps = alpha (T - T0) whatever the reference
         card = "TREF is blank" if model.format == "bulk" else "*EXPANSION has no ZERO="
         yield ctx.finding(f"material {mat.name}: {card}, so the expansion reference temperature is 0 while the "
-                          f"initial temperature is {_fmt(init[0])}", blk.loc, material=mat.name,
+                          f"initial temperature is {short(init[0])}", blk.loc, material=mat.name,
                           data={"line": blk.loc.line, "initial": init[0], "temperature_dependent": dependent})

@@ -8,13 +8,13 @@ from __future__ import annotations
 
 import math
 
+from linter.findings import SEVERITY_RANK
 from linter.physics.elastic import k_over_g
 from linter.registry import rule
 from linter.usage import element_types_of
 
 from ._text import listing, num, plural
 
-SEV_RANK = {"note": 1, "warning": 2, "error": 3}
 
 
 def locking_ratio(ctx) -> float:
@@ -103,7 +103,7 @@ def volumetric_locking(model, ctx):
             if sev is None:
                 continue
             affected[etype] = (count, tech, sev)
-            if severity is None or SEV_RANK[sev] > SEV_RANK[severity]:
+            if severity is None or SEVERITY_RANK[sev] > SEVERITY_RANK[severity]:
                 severity = sev
         if not affected:
             continue

@@ -18,16 +18,13 @@ import numpy as np
 
 from linter.physics import plastic as P
 from linter.registry import rule
+from ._text import short
 
 CCX_PL = "CalculiX User's Manual *PLASTIC (formats.md 2.4)"
 NAS_PL = "Nastran bulk data MATS1, TABLES1 (formats.md 5.3)"
 PHYS = "physics.md 4, Plasticity input sanity"
 TABLE_FORMS = ("ISOTROPIC", "KINEMATIC", "COMBINED", "")
 MAX_LISTED = 5
-
-
-def _fmt(x) -> str:
-    return f"{x:.4g}" if x is not None and math.isfinite(x) else str(x)
 
 
 def strain_is_total(block) -> bool:
@@ -151,7 +148,7 @@ def material_class(E, rho) -> str:
 
 
 def _where(mat, t) -> str:
-    return f"material {mat.name}" + (f", curve at T = {_fmt(t)}" if t is not None else "")
+    return f"material {mat.name}" + (f", curve at T = {short(t)}" if t is not None else "")
 
 
 def _listed(items: list[str]) -> str:
@@ -173,10 +170,10 @@ def first_strain_not_zero(model, ctx):
                 continue
             loc = c.locs[0]
             if total:
-                msg = (f"{_where(mat, t)}: the total stress-strain curve starts at (strain {_fmt(e[0])}, "
-                       f"stress {_fmt(s[0])}) on line {loc.line}, not at the origin")
+                msg = (f"{_where(mat, t)}: the total stress-strain curve starts at (strain {short(e[0])}, "
+                       f"stress {short(s[0])}) on line {loc.line}, not at the origin")
             else:
-                msg = (f"{_where(mat, t)}: the first point has plastic strain {_fmt(e[0])} on line "
+                msg = (f"{_where(mat, t)}: the first point has plastic strain {short(e[0])} on line "
                        f"{loc.line}; it must be 0 (the first point is the initial yield stress)")
             yield ctx.finding(msg, loc, material=mat.name,
                               data={"temperature": t, "line": loc.line, "first_strain": float(e[0]),
@@ -197,7 +194,7 @@ def strain_not_increasing(model, ctx):
             if not bad.size:
                 continue
             pts = [{"line": c.locs[k].line, "strain": float(e[k]), "previous": float(e[k - 1])} for k in bad]
-            text = _listed([f"{_fmt(p['previous'])} then {_fmt(p['strain'])} (line {p['line']})" for p in pts])
+            text = _listed([f"{short(p['previous'])} then {short(p['strain'])} (line {p['line']})" for p in pts])
             yield ctx.finding(f"{_where(mat, t)}: the strain does not increase: {text}",
                               c.locs[bad[0]], material=mat.name,
                               data={"temperature": t, "points": pts})
@@ -219,14 +216,14 @@ def softening(model, ctx):
             slopes = P.hardening_slopes(s, e)
             pts = [{"line": c.locs[k].line, "stress": float(s[k]), "previous": float(s[k - 1]),
                     "slope": float(slopes[k - 1])} for k in bad]
-            text = _listed([f"{_fmt(p['previous'])} to {_fmt(p['stress'])} (line {p['line']})" for p in pts])
+            text = _listed([f"{short(p['previous'])} to {short(p['stress'])} (line {p['line']})" for p in pts])
             yield ctx.finding(
                 f"{_where(mat, t)}: the stress falls: {text}. An engineering stress-strain curve past its "
                 "maximum looks like this; use true stress against true plastic strain up to necking",
                 c.locs[bad[0]], material=mat.name, data={"temperature": t, "points": pts})
         h = mats1_slope(blk)
         if h is not None and h < 0:
-            yield ctx.finding(f"material {mat.name}: MATS1 hardening slope H = {_fmt(h)} is negative "
+            yield ctx.finding(f"material {mat.name}: MATS1 hardening slope H = {short(h)} is negative "
                               "(softening)", blk.loc, material=mat.name,
                               data={"temperature": None, "points": [], "H": h})
 
@@ -254,12 +251,12 @@ def total_strain_given(model, ctx):
                 match = np.flatnonzero(P.elastic_strain_match(s[head], e[head], E, tol))
                 if match.size:
                     k = int(match[0])
-                    hit = (k, f"the strain {_fmt(e[k])} equals the elastic strain sigma/E = {_fmt(s[k] / E)} "
-                              f"(E = {_fmt(E)}): the column is probably total strain; use eps_p = eps - sigma/E",
+                    hit = (k, f"the strain {short(e[k])} equals the elastic strain sigma/E = {short(s[k] / E)} "
+                              f"(E = {short(E)}): the column is probably total strain; use eps_p = eps - sigma/E",
                            "elastic-strain")
             if hit is None and np.nanmax(e) > P.PERCENT_STRAIN_LIMIT:
                 k = int(np.nanargmax(e))
-                hit = (k, f"the largest strain is {_fmt(e[k])}: strains look like percent, not a fraction",
+                hit = (k, f"the largest strain is {short(e[k])}: strains look like percent, not a fraction",
                        "percent")
             if hit is None:
                 continue
@@ -296,7 +293,7 @@ def zero_yield(model, ctx):
             loc = c.locs[k]
             extra = ("; with *CREEP this is the usual way to model creep without a yield surface"
                      if creep and y == 0 else "")
-            yield ctx.finding(f"{_where(mat, t)}: the initial yield stress is {_fmt(y)} on line {loc.line}"
+            yield ctx.finding(f"{_where(mat, t)}: the initial yield stress is {short(y)} on line {loc.line}"
                               f"{extra}", loc, material=mat.name,
                               severity="warning" if creep and y == 0 else None,
                               data={"temperature": t, "line": loc.line, "yield_stress": y, "with_creep": creep},
@@ -330,8 +327,8 @@ def yield_vs_modulus(model, ctx):
             hint = (" (a yield stress in Pa with E in MPa, or similar unit mix-up?)" if ratio > 1
                     else " (the yield stress in MPa with E in Pa, or similar?)" if ratio < band[0] / 100 else "")
             yield ctx.finding(
-                f"{_where(mat, t)}: initial yield strain sigma_y/E = {_fmt(y)}/{_fmt(E)} = {_fmt(ratio)} is outside "
-                f"{_fmt(band[0])}..{_fmt(band[1])} expected for {judged}{hint}",
+                f"{_where(mat, t)}: initial yield strain sigma_y/E = {short(y)}/{short(E)} = {short(ratio)} is outside "
+                f"{short(band[0])}..{short(band[1])} expected for {judged}{hint}",
                 loc, material=mat.name,
                 data={"temperature": t, "line": loc.line, "yield_stress": y, "E": E, "yield_strain": ratio,
                       "material_class": cls, "band": list(band)},

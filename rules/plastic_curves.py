@@ -12,6 +12,7 @@ import math
 import numpy as np
 
 from linter.registry import rule
+from ._text import short
 
 from .plastic import elastic_modulus
 
@@ -21,10 +22,6 @@ CA_RCTRAC = ("code_aster source bibfor/modelisa/rctrac.F90: the hardening functi
              "with E = sigma_1/eps_1 of its first point (e = vale(n+1)/vale(1)), not with the E of ELAS")
 CA_ECRO = ("code_aster messages COMPOR1_53/54 (code_aster/Messages/compor1.py), raised by bibfor/comport/nmcine.F90 "
            "and lcpima.F90: the hardening slope H must be strictly below E")
-
-
-def _fmt(x) -> str:
-    return f"{x:.4g}" if x is not None and math.isfinite(x) else str(x)
 
 
 def _curves(model):
@@ -54,7 +51,7 @@ def first_point_off_elastic_line(model, ctx):
         data = {"line": blk.loc.line, "strain": float(eps[0]), "stress": float(sig[0]), "E": e_mod,
                 "tolerance": tol}
         if eps[0] <= 0 or sig[0] <= 0:
-            yield ctx.finding(f"{where} has strain {_fmt(eps[0])} and stress {_fmt(sig[0])}: both must be positive "
+            yield ctx.finding(f"{where} has strain {short(eps[0])} and stress {short(sig[0])}: both must be positive "
                               "(the solver stops)", blk.loc, material=mat.name, data={**data, "ratio": None},
                               severity="error")
             continue
@@ -62,8 +59,8 @@ def first_point_off_elastic_line(model, ctx):
         if e_mod is None or not math.isfinite(e_mod) or e_mod <= 0:
             continue
         if abs(ratio - e_mod) > tol * e_mod:
-            yield ctx.finding(f"{where} ({_fmt(eps[0])}, {_fmt(sig[0])}) gives stress/strain = {_fmt(ratio)}, but E = "
-                              f"{_fmt(e_mod)}: the curve does not start on the elastic line, and the solver builds the "
+            yield ctx.finding(f"{where} ({short(eps[0])}, {short(sig[0])}) gives stress/strain = {short(ratio)}, but E = "
+                              f"{short(e_mod)}: the curve does not start on the elastic line, and the solver builds the "
                               "hardening from the curve's own slope", blk.loc,
                               material=mat.name, data={**data, "ratio": ratio})
 
@@ -86,9 +83,9 @@ def curve_slope_above_initial(model, ctx):
         steep = ~back & (slope > e1)
         if not (back.any() or steep.any()):
             continue
-        parts = [f"strain {_fmt(eps[i + 1])} does not increase" for i in np.flatnonzero(back)[:3]]
-        parts += [f"slope {_fmt(slope[i])} up to strain {_fmt(eps[i + 1])}" for i in np.flatnonzero(steep)[:3]]
-        yield ctx.finding(f"material {mat.name}: the {blk.card or 'tensile'} curve (initial slope {_fmt(e1)}) has "
+        parts = [f"strain {short(eps[i + 1])} does not increase" for i in np.flatnonzero(back)[:3]]
+        parts += [f"slope {short(slope[i])} up to strain {short(eps[i + 1])}" for i in np.flatnonzero(steep)[:3]]
+        yield ctx.finding(f"material {mat.name}: the {blk.card or 'tensile'} curve (initial slope {short(e1)}) has "
                           + "; ".join(parts), blk.loc, material=mat.name,
                           data={"line": blk.loc.line, "initial_slope": e1,
                                 "segments": [{"strain": float(eps[i + 1]), "slope": None if back[i] else
@@ -120,8 +117,8 @@ def tangent_modulus_not_below_e(model, ctx):
             for rows, sev, what in ((high, "error", "not below E"), (low, "warning", "negative (softening)")):
                 if not rows:
                     continue
-                listed = ", ".join(f"D_SIGM_EPSI = {_fmt(r['slope'])}" + (f" at T = {_fmt(r['T'])}" if r["T"] is not None
-                                                                         else "") + f" (E = {_fmt(r['E'])})"
+                listed = ", ".join(f"D_SIGM_EPSI = {short(r['slope'])}" + (f" at T = {short(r['T'])}" if r["T"] is not None
+                                                                         else "") + f" (E = {short(r['E'])})"
                                    for r in rows[:4])
                 yield ctx.finding(f"material {mat.name}: the {blk.card or 'linear hardening'} slope is {what}: "
                                   f"{listed}", loc, material=mat.name, severity=sev,

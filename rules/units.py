@@ -78,6 +78,13 @@ def gravity(model, ctx):
         yield ctx.finding(p.message, p.loc, data=p.data, severity=p.severity)
 
 
+
+def _declared_at(model, name):
+    """Where a model file declared its unit system (a material file's units: line), or None."""
+    loc = model.extras.get("declared_units_loc")
+    return loc if loc is not None and model.extras.get("declared_units") == name else None
+
+
 @rule("units/undetermined", severity="note",
       escalation="error when the declared system is unknown", title="Too little evidence to tell the unit system",
       rationale="The values of the model fit more than one unit system about equally well (for example only "
@@ -94,8 +101,9 @@ def undetermined(model, ctx):
     if us.get("declared_unknown"):
         yield ctx.finding(f"unknown unit system {us['declared_unknown']!r} declared; known systems: "
                           f"{', '.join(us.get('known', ()))}; the system was inferred instead",
-                          None, severity="error", data={"declared": us["declared_unknown"],
-                                                        "known": us.get("known", [])})
+                          _declared_at(model, us["declared_unknown"]), severity="error",
+                          data={"declared": us["declared_unknown"],
+                                "known": us.get("known", [])})
     if us.get("declared") and not us.get("declared_unknown"):
         return
     if not us.get("evidence"):

@@ -26,11 +26,20 @@ def corpus_dir() -> Path:
 
 @pytest.fixture(scope="session")
 def sarif_schema_path() -> Path:
+    """The OASIS SARIF 2.1.0 schema copied into tests/data (see tests/data/README.md): never skipped."""
     env = os.environ.get("DECKWARDEN_SARIF_SCHEMA")
-    cand = Path(env) if env else REPO.parent / "shared" / "schemas" / "sarif-schema-2.1.0.json"
-    if not cand.is_file():
-        pytest.skip("SARIF schema not present")
-    return cand
+    return Path(env) if env else REPO / "tests" / "data" / "sarif-schema-2.1.0.json"
+
+
+@pytest.fixture(scope="session")
+def sarif_validator(sarif_schema_path):
+    """validate(doc): raises when a SARIF document breaks the SARIF 2.1.0 schema."""
+    import json
+
+    import jsonschema
+
+    validator = jsonschema.Draft7Validator(json.loads(sarif_schema_path.read_text(encoding="utf-8")))
+    return validator.validate
 
 
 @pytest.fixture

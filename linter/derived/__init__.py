@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import importlib
 import pkgutil
-import traceback
 from typing import Callable
 
 _DERIVATIONS: list[tuple[int, str, Callable]] = []
@@ -38,7 +37,7 @@ def _load() -> None:
 
 def derive_all(model, config) -> list:
     """Run every derivation; a failing one becomes an ``internal/derive-failed`` finding."""
-    from ..findings import Finding
+    from ..findings import Finding, raised_at
 
     _load()
     failures = []
@@ -46,8 +45,7 @@ def derive_all(model, config) -> list:
         try:
             fn(model, config)
         except Exception as exc:
-            tb = traceback.extract_tb(exc.__traceback__)
-            where = f"{tb[-1].filename.rsplit('/', 1)[-1]}:{tb[-1].lineno}" if tb else ""
+            where = raised_at(exc)
             failures.append(Finding(rule="internal/derive-failed", severity="error",
                                     message=f"deriving {name} failed ({type(exc).__name__}: {exc})",
                                     path=model.path, line=None,

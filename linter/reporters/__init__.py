@@ -121,13 +121,26 @@ def where(path: Any, line: Any) -> str:
 
 
 def severity_counts(findings) -> dict[str, int]:
+    """Findings per severity, of those that count (not suppressed by a comment, not in the baseline)."""
     from ..findings import SEVERITIES
 
     out = {s: 0 for s in SEVERITIES}
     for f in findings:
-        if f.severity in out:
+        if f.severity in out and getattr(f, "active", True):
             out[f.severity] += 1
     return out
+
+
+def active(findings) -> list:
+    """The findings that count: neither accepted by a suppression comment nor in the baseline."""
+    return [f for f in findings if getattr(f, "active", True)]
+
+
+def state_counts(findings) -> dict[str, int]:
+    """{"suppressed": accepted by a comment, "in_baseline": recorded in the baseline}."""
+    sup = sum(1 for f in findings if getattr(f, "suppression", None) is not None)
+    base = sum(1 for f in findings if getattr(f, "baseline", False) and getattr(f, "suppression", None) is None)
+    return {"suppressed": sup, "in_baseline": base}
 
 
 def run_exit_code(result, opts: ReportOptions) -> int:

@@ -7,8 +7,14 @@ Contract (schema_version 1; later changes are additive only)::
      "caution": "...",
      "files": [{"path", "format", "dialect", "materials": [{"name", "path", "line", ...}],
                 "unchecked": [...], "incomplete", ["unit_system"], ["summary"], "counts"}],
-     "findings": [{"rule", "severity", "path", "line", "material", "message", "data"}],
-     "summary": {"error", "warning", "note", "total", "files", "incomplete", "fail_on", "exit_code"}}
+     "findings": [{"rule", "severity", "path", "line", "material", "message", "data",
+                   ["fingerprint"], ["suppression"], ["baseline"]}],
+     "summary": {"error", "warning", "note", "total", "suppressed", "in_baseline", "files", "incomplete",
+                 "fail_on", "exit_code"}}
+
+The counts per severity and ``total`` are of the findings that count for the exit code; findings
+accepted by a suppression comment (``suppression``) or recorded in the baseline (``baseline``) are
+still listed, and counted under ``suppressed`` and ``in_baseline``.
 
 Paths are as given on the command line (relative stays relative); materials carry the
 file where they are defined (maybe an include). Non-finite numbers become ``null``.
@@ -17,7 +23,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from . import as_options, dump_json, line_of, run_exit_code, severity_counts, sorted_findings
+from . import as_options, dump_json, line_of, run_exit_code, severity_counts, sorted_findings, state_counts
 
 SCHEMA_VERSION = 1
 
@@ -31,6 +37,9 @@ def _finding(f) -> dict[str, Any]:
         "material": None if f.material is None else str(f.material),
         "message": str(f.message),
         "data": f.data if isinstance(f.data, dict) else {"value": f.data},
+        **({"fingerprint": str(f.fingerprint)} if getattr(f, "fingerprint", None) else {}),
+        **({"suppression": f.suppression} if getattr(f, "suppression", None) is not None else {}),
+        **({"baseline": True} if getattr(f, "baseline", False) else {}),
     }
 
 
@@ -64,7 +73,7 @@ def build(result, options=None) -> dict[str, Any]:
         "caution": CAUTION,
         "files": files,
         "findings": [_finding(f) for f in findings],
-        "summary": {**counts, "total": len(findings), "files": len(result.files),
+        "summary": {**counts, "total": sum(counts.values()), **state_counts(findings), "files": len(result.files),
                     "incomplete": bool(result.incomplete), "fail_on": opts.fail_on,
                     "exit_code": run_exit_code(result, opts)},
     }

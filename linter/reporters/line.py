@@ -1,11 +1,12 @@
-"""One line per finding: ``path:line: severity: rule: message [material]``.
+"""One line per finding that counts (suppressed and baseline findings are left out):
+``path:line: severity: rule: message [material]``.
 
 Deck strings pass through :func:`visible`, so a name or message can never start a new
 line or move the cursor: one finding is always exactly one output line.
 """
 from __future__ import annotations
 
-from . import sorted_findings, visible, where
+from . import active, sorted_findings, visible, where
 
 
 def format_finding(f) -> str:
@@ -16,8 +17,8 @@ def format_finding(f) -> str:
 
 
 def report(result, stream, options=None) -> None:
-    for f in sorted_findings(result.general):
+    for f in sorted_findings(active(result.general)):
         stream.write(format_finding(f) + "\n")
     for fr in result.files:
-        for f in sorted_findings(fr.findings):
+        for f in sorted_findings(active(fr.findings)):
             stream.write(format_finding(f) + "\n")

@@ -74,6 +74,16 @@ def _result(f, index: int) -> dict[str, Any]:
         if line is not None:
             phys["region"] = {"startLine": line}
         res["locations"] = [{"physicalLocation": phys}]
+    sup = getattr(f, "suppression", None)
+    if isinstance(sup, dict):
+        entry: dict[str, Any] = {"kind": "inSource", "status": "accepted",
+                                 "justification": str(sup.get("reason") or f"accepted for {sup.get('scope')}")}
+        if sup.get("path"):
+            loc: dict[str, Any] = {"artifactLocation": {"uri": uri_of(sup["path"])}}
+            if line_of(sup.get("line")) is not None:
+                loc["region"] = {"startLine": line_of(sup.get("line"))}
+            entry["location"] = {"physicalLocation": loc}
+        res["suppressions"] = [entry]
     return res
 
 

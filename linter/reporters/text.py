@@ -10,7 +10,8 @@ from __future__ import annotations
 import os
 from collections import defaultdict
 
-from . import as_options, key_numbers, line_of, run_exit_code, severity_counts, sorted_findings, visible, where
+from . import (active, as_options, key_numbers, line_of, run_exit_code, severity_counts, sorted_findings,
+               state_counts, visible, where)
 
 STYLE = {"error": "bold red", "warning": "yellow", "note": "cyan"}
 LABEL = {"error": "ERROR", "warning": "WARNING", "note": "NOTE"}
@@ -143,7 +144,7 @@ def report(result, stream, options=None) -> None:
 
     opts = as_options(options)
     con = _console(stream, opts)
-    general = sorted_findings(result.general)
+    general = sorted_findings(active(result.general))
     if general:
         con.print(Rule(Text("before any deck was read"), style="dim"))
         con.print(_findings_table(general))
@@ -151,7 +152,7 @@ def report(result, stream, options=None) -> None:
     for fr in result.files:
         con.print(Rule(Text(visible(fr.path), style="bold"), style="dim"))
         con.print(_header(fr))
-        findings = sorted_findings(fr.findings)
+        findings = sorted_findings(active(fr.findings))
         if findings:
             con.print(_findings_table(findings, deck=fr.path))
         else:
@@ -171,6 +172,11 @@ def report(result, stream, options=None) -> None:
         (f"{counts['warning']} warning(s)", STYLE["warning"] if counts["warning"] else ""), ", ",
         (f"{counts['note']} note(s)", STYLE["note"] if counts["note"] else ""),
         f" in {len(result.files)} deck(s); exit code {run_exit_code(result, opts)}")
+    states = state_counts(result.findings)
+    if states["suppressed"]:
+        total.append(f"; {states['suppressed']} suppressed by comments (not counted)")
+    if states["in_baseline"]:
+        total.append(f"; {states['in_baseline']} in the baseline (not counted)")
     if result.incomplete:
         total.append("; the check is INCOMPLETE", style="bold red")
     con.print(total)

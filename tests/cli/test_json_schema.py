@@ -51,7 +51,7 @@ def test_hostile_report_with_non_finite_numbers_is_valid(validator):
     assert doc["files"][0]["materials"][0]["derived"]["elastic"][0]["K"] is None
     assert doc["files"][0]["materials"][0]["path"] == "model/parts.inp"   # where it is defined (an include)
     assert doc["summary"] == {"error": 2, "warning": 1, "note": 1, "total": 4, "files": 1, "incomplete": True,
-                              "fail_on": "error", "exit_code": 2}
+                              "fail_on": "error", "exit_code": 2, "suppressed": 0, "in_baseline": 0}
     # a line that is 0 or unknown is null, never 0
     assert [f["line"] for f in doc["findings"] if f["rule"] == "model/undefined-material"] == [None]
 

@@ -80,3 +80,21 @@ def test_not_a_mesh():
 @pytest.mark.parametrize("text", [b"", b"A B  C\n\n D", b"  \n\t x", b"abc"])
 def test_token_count_matches_split(text):
     assert count_tokens(text, 0, len(text)) == len(text.split())
+
+
+def test_memory_mapped_mesh_reads_like_bytes(tmp_path, monkeypatch):
+    from linter.parsers.aster import mapped
+
+    lines = [b"COOR_2D"] + [b"N%d %d. 0." % (i, i) for i in range(1, 2001)] + [b"FINSF", b"SEG2"]
+    lines += [b"S%d N%d N%d" % (i, i, i + 1) for i in range(1, 2000)] + [b"FINSF", b"GROUP_MA", b"ALL"]
+    lines += [b" S%d" % i for i in range(1, 2000)] + [b"FINSF", b"FIN", b""]
+    p = tmp_path / "big.mail"
+    p.write_bytes(b"\n".join(lines))
+    monkeypatch.setattr(mapped, "MAP_ABOVE", 1024)      # map even this small file
+    monkeypatch.setattr(mapped, "WINDOW", 4096)
+    data = mapped.open_mesh(str(p), 1 << 30)
+    assert not isinstance(data, bytes)
+    a, b = read_mail(data, "m"), read_mail(p.read_bytes(), "b")
+    assert (a.node_count, a.cell_count) == (b.node_count, b.cell_count) == (2000, 1999)
+    assert a.group_cells("ALL").tolist() == b.group_cells("ALL").tolist() == list(range(1999))
+    np.testing.assert_allclose(a.bbox[1], [2000, 0, 0])

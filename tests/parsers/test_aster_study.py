@@ -246,3 +246,14 @@ R = STAT_NON_LINE(MODELE=MO, CHAM_MATER=CM)
     res = check_paths([str(tmp_path / "s.export")], Config())
     nu = [f for f in res.files[0].findings if f.rule == "elastic/poisson-out-of-range"]
     assert nu and nu[0].severity == "note"
+
+
+def test_sample_study_reports_the_locking_pad():
+    from pathlib import Path
+
+    sample = Path(__file__).resolve().parents[2] / "sample_decks" / "pv40_bearing_pedestal.export"
+    res = check_paths([str(sample)], Config())
+    rep = res.files[0]
+    assert [(f.rule, f.material, f.line) for f in rep.findings] == [("element/volumetric-locking", "EPDM", 21)]
+    assert rep.summary["element_types"] == {"3D/HEXA8": 24}          # 16 cast + 8 pad cells; base faces left out
+    assert sorted(m["name"] for m in rep.materials) == ["EPDM", "IRON"]

@@ -123,3 +123,28 @@ def test_selector_matching_no_cells_and_missing_mesh(mesh_dir):
     assert f.line == 2 and "gone.vtu" in f.message
     # nothing that only follows from the missing mesh is reported again
     assert not [f for f in report.findings if f.rule.startswith("model/")], report.findings
+
+
+def test_explicit_step_measures_the_cells(mesh_dir):
+    # the two hexahedra of mesh_dir are unit cubes: their smallest edge is 1 by construction
+    text = HEAD + "materials:\n" + STEEL + "  OTHER: {elastic: {E: 70000, nu: 0.33}, density: 2.7e-9}\n" + REGIONS \
+        + "analysis:\n  - {kind: dynamic-explicit}\n"
+    report, _ = run_case(mesh_dir, "explicit.yaml", text)
+    got = {f.material: f.data for f in report.findings if f.rule == "analysis/explicit-time-step"}
+    assert got["STEEL"]["length"] == pytest.approx(1.0) and not got["STEEL"]["length_estimated"]
+    # dt = L / c_d, c_d = sqrt(M / rho), M = E (1 - nu) / ((1 + nu)(1 - 2 nu)) (Belytschko, Liu & Moran 2000
+    # ch. 6): E 210000 MPa, nu 0.3, rho 7.85e-9 t/mm^3 give c_d = 6.0010e6 mm/s, dt = 1.666e-7 s for L = 1 mm
+    M = 210000 * 0.7 / (1.3 * 0.4)
+    assert got["STEEL"]["dt"] == pytest.approx(1.0 / (M / 7.85e-9) ** 0.5, rel=1e-6)
+
+
+def test_declared_units_of_the_material_file(mesh_dir):
+    text = HEAD.replace("deckwarden: 1\n", "deckwarden: 1\nunits: furlongs\n") + "materials:\n" + STEEL \
+        + "  OTHER: {elastic: {E: 70000, nu: 0.33}, density: 2.7e-9}\n" + REGIONS
+    report, _ = run_case(mesh_dir, "units.yaml", text)
+    (f,) = [f for f in report.findings if f.rule == "units/undetermined"]
+    assert f.severity == "error" and f.line == 2 and "furlongs" in f.message
+    report, _ = run_case(mesh_dir, "units2.yaml", text.replace("furlongs", "m-kg-s"))
+    assert report.unit_system["name"] == "m-kg-s" and report.unit_system["declared"]
+    # a declared SI system makes the mm-tonne-s values implausible
+    assert any(f.rule.startswith("units/") and f.severity in ("error", "warning") for f in report.findings)

@@ -20,7 +20,7 @@ import numpy as np
 from ...catalogue import Catalogue
 from ...model import ElementBlock, ElementSet, Lazy, Loc, norm_key
 from .evaluate import Keywords, Opaque
-from .mail import Mesh, cell_dim
+from .mail import Mesh, cell_dim, sorted_unique
 
 DIALECT = "code_aster"
 PHENOMENA = {"MECANIQUE": "", "THERMIQUE": "THERMIQUE:", "ACOUSTIQUE": "ACOUSTIQUE:"}
@@ -91,7 +91,8 @@ def select(use: MeshUse, occ: Keywords) -> tuple[str, Optional[np.ndarray], str]
             if st != "ok":
                 return st, None, g
             parts.append(idx)
-        return state, np.unique(np.concatenate(parts)) if parts else np.zeros(0, np.int64), ", ".join(groups)
+        idx = parts[0] if len(parts) == 1 else sorted_unique(np.concatenate(parts))
+        return state, idx, ", ".join(groups)
     cells = names(occ.get("MAILLE"))
     if cells and use.mesh is not None:
         idx = use.mesh.cells_named(cells)
@@ -109,11 +110,11 @@ class ModelBuilder:
         self.cat = catalogue or Catalogue.load()
         self.known = {t.split("/")[0] for t in self.cat.types(DIALECT)}
 
-    def add(self, use: MeshUse, cmd, notes: list, base: int = 0) -> list[int]:
-        """Blocks of one AFFE_MODELE on ``use`` (element ids start at ``base``); returns their indices."""
+    def add(self, use: MeshUse, cmd, notes: list) -> Optional["Formulations"]:
+        """The formulation of every cell of ``use`` under one AFFE_MODELE (None without cells)."""
         mesh = use.mesh
         if mesh is None or not mesh.cells:
-            return []
+            return None
         codes = [np.full(c.count, -1, np.int32) for c in mesh.cells]
         kinds: list[str] = []
         for occ in occurrences(cmd.keywords.get("AFFE")):
@@ -133,21 +134,28 @@ class ModelBuilder:
             prefix = PHENOMENA.get(phen, phen + ":")
             for mod in mods:
                 self._assign(mesh, codes, kinds, prefix + mod, idx)
+        return Formulations(use, cmd, codes, kinds)
+
+    def blocks(self, f: "Formulations", base: int, cover: Optional[np.ndarray]) -> list[tuple[int, int]]:
+        """Element blocks of a model, one per cell type, formulation and combination of material entries
+        (``cover``: a bit per entry for every cell of the mesh). Returns (block index, cover bits) pairs."""
         out = []
-        for c, code in zip(mesh.cells, codes):
-            for k in np.unique(code):
+        for c, code in zip(f.use.mesh.cells, f.codes):
+            bits = cover[c.first:c.first + c.count] if cover is not None else np.zeros(c.count, np.int64)
+            comb = bits * 1024 + (code.astype(np.int64) + 1)
+            for value, mask in _groups(comb):
+                k, b = int(value % 1024) - 1, int(value // 1024)
                 if k < 0:
                     continue
-                sel = code == k
-                n = int(sel.sum())
-                first = base + use.offset + c.first
-                ids = Lazy((lambda f=first, n=n: np.arange(f, f + n, dtype=np.int64)) if n == c.count else
-                           (lambda s=sel, f=first: np.flatnonzero(s).astype(np.int64) + f))
-                etype = f"{kinds[k]}/{c.type}"
+                n = c.count if mask is None else int(mask.sum())
+                first = base + f.use.offset + c.first
+                ids = Lazy((lambda f0=first, n=n: np.arange(f0, f0 + n, dtype=np.int64)) if mask is None else
+                           (lambda s=mask, f0=first: np.flatnonzero(s).astype(np.int64) + f0))
+                etype = f"{f.kinds[k]}/{c.type}"
                 self.model.element_blocks.append(ElementBlock(
-                    type=etype, type_as_written=etype, count=n, loc=Loc(self.model.path, cmd.line),
-                    elset=cmd.target, nodes=c.nodes, ids=ids, conn=None))
-                out.append(len(self.model.element_blocks) - 1)
+                    type=etype, type_as_written=etype, count=n, loc=Loc(self.model.path, f.cmd.line),
+                    elset=f.cmd.target, nodes=c.nodes, ids=ids, conn=None))
+                out.append((len(self.model.element_blocks) - 1, b))
         return out
 
     def _assign(self, mesh: Mesh, codes, kinds, kind: str, idx: np.ndarray) -> None:
@@ -171,6 +179,32 @@ class ModelBuilder:
             lo, hi = np.searchsorted(idx, [c.first, c.first + c.count])
             if hi > lo:
                 code[idx[lo:hi] - c.first] = k
+
+
+@dataclass
+class Formulations:
+    """The formulation code of every cell (index into ``kinds``, -1: no element) under one AFFE_MODELE."""
+
+    use: MeshUse
+    cmd: object
+    codes: list
+    kinds: list
+
+
+def _groups(values: np.ndarray):
+    """(value, mask) of each distinct value (mask None when the whole array has it); few distinct values."""
+    if not values.size:
+        return
+    first = values[0]
+    if bool((values == first).all()):
+        yield first, None
+        return
+    rest = np.ones(values.size, bool)
+    while rest.any():
+        v = values[np.argmax(rest)]
+        mask = values == v
+        rest &= ~mask
+        yield v, mask
 
 
 def element_set(model, key: str, name: str, loc: Loc, ids: Optional[np.ndarray] = None,

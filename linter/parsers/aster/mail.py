@@ -17,8 +17,11 @@ from typing import Optional
 import numpy as np
 
 from .. import sampling
+from .mapped import count_newlines, drop, find
 
-CHUNK = 8 << 20
+CHUNK = 1 << 20
+#: the reading pass over coordinates and cells (fewer, larger numpy calls)
+SCAN_CHUNK = 4 << 20
 _WORD = re.compile(rb"[A-Za-z_][A-Za-z0-9_]*")
 _COMMENT = re.compile(rb"%[^\n]*")
 #: topological dimension of the cell types by their name
@@ -40,7 +43,8 @@ def cell_nodes(cell_type: str) -> int:
 
 @dataclass
 class Cells:
-    """One cell section: ``count`` cells of ``type`` with ``nodes`` nodes; global indices ``first``..."""
+    """One cell section: ``count`` cells of ``type`` with ``nodes`` nodes; global indices ``first``...
+    (``line``, here and in :class:`Group`, is the byte offset of the section; ``Mesh.line_at`` converts it)."""
 
     type: str
     nodes: int
@@ -50,6 +54,7 @@ class Cells:
     line: int
     count: int = 0
     first: int = 0
+    keys: Optional[np.ndarray] = None      # packed cell names, when the reading pass made them
 
 
 @dataclass
@@ -81,28 +86,61 @@ class Mesh:
     bbox: Optional[tuple[np.ndarray, np.ndarray]] = None
     bbox_exact: bool = True
     _index: Optional[tuple[np.ndarray, np.ndarray]] = None
+    _keys: Optional[np.ndarray] = None
+    _data: object = None
+    _line_cache: tuple = (0, 1)
+
+    def line_at(self, offset: int) -> int:
+        """The 1-based line of a byte offset of the file (counted on demand, forward from the last one asked)."""
+        last, line = self._line_cache if offset >= self._line_cache[0] else (0, 1)
+        if self._data is None:
+            return line
+        line += count_newlines(self._data, last, offset)
+        self._line_cache = (offset, line)
+        return line
 
     @property
     def cell_count(self) -> int:
         return sum(c.count for c in self.cells)
 
     def group_cells(self, name: str) -> Optional[np.ndarray]:
-        """Global indices of the cells of GROUP_MA ``name`` (None when the mesh has no such group)."""
+        """Global indices of the cells of GROUP_MA ``name``, sorted (None when the mesh has no such group)."""
         parts = self.groups.get(name)
         if parts is None:
             return None
-        keys, order = self._cell_index()
         out = []
         for g in parts:
             names = _names(g.buf, g.start, g.end, 1, 0)
-            pos = np.searchsorted(keys, names)
-            pos = np.minimum(pos, max(len(keys) - 1, 0))
+            run = self._run_of(names)
+            if run is not None:
+                out.append(run)
+                continue
+            keys, order = self._cell_index()
+            pos = np.minimum(np.searchsorted(keys, names), max(len(keys) - 1, 0))
             ok = keys[pos] == names if len(keys) else np.zeros(len(names), bool)
             if not ok.all():
                 self.issues.append(MeshIssue("malformed-data", f"GROUP_MA {name} names {int((~ok).sum())} cell(s) "
-                                             "that the mesh does not define", g.line))
+                                             "that the mesh does not define", self.line_at(g.line)))
             out.append(order[pos[ok]])
-        return np.unique(np.concatenate(out)) if out else np.zeros(0, np.int64)
+        return sorted_unique(np.concatenate(out) if len(out) > 1 else out[0])
+
+    def _run_of(self, names: np.ndarray) -> Optional[np.ndarray]:
+        """The indices when the group lists a run of consecutive cells in file order (the usual layout)."""
+        allk = self._cell_keys()
+        if not len(names) or not len(allk):
+            return None
+        first = np.flatnonzero(allk == names[0])
+        if len(first) != 1 or first[0] + len(names) > len(allk):
+            return None
+        p = int(first[0])
+        return np.arange(p, p + len(names), dtype=np.int64) if np.array_equal(allk[p:p + len(names)], names) else None
+
+    def _cell_keys(self) -> np.ndarray:
+        if self._keys is None:
+            keys = [c.keys if c.keys is not None else _names(c.buf, c.start, c.end, c.nodes + 1, 0)
+                    for c in self.cells]
+            self._keys = np.concatenate(keys) if keys else np.zeros(0, np.uint64)
+        return self._keys
 
     def cells_named(self, cell_names: list[str]) -> Optional[np.ndarray]:
         """Global indices of the cells named (None when one of them is not in the mesh)."""
@@ -114,19 +152,26 @@ class Mesh:
         pos = np.minimum(np.searchsorted(keys, wanted), len(keys) - 1)
         if not (keys[pos] == wanted).all():
             return None
-        return np.unique(order[pos])
+        return sorted_unique(order[pos])
 
     def _cell_index(self) -> tuple[np.ndarray, np.ndarray]:
         """Sorted packed cell names and the global index of each."""
         if self._index is None:
-            keys = [_names(c.buf, c.start, c.end, c.nodes + 1, 0) for c in self.cells]
-            allk = np.concatenate(keys) if keys else np.zeros(0, np.uint64)
+            allk = self._cell_keys()
             order = np.argsort(allk, kind="stable")
             self._index = (allk[order], order.astype(np.int64))
         return self._index
 
 
 # ------------------------------------------------------------------------------------ tokens
+
+
+def sorted_unique(a: np.ndarray) -> np.ndarray:
+    """``np.unique`` of an index array, without the work when it is already strictly increasing."""
+    if a.size < 2 or bool((a[1:] > a[:-1]).all()):
+        return a
+    a = np.sort(a)
+    return a[np.concatenate(([True], a[1:] != a[:-1]))]
 
 
 def _chunks(buf: bytes, start: int, end: int):
@@ -137,58 +182,70 @@ def _chunks(buf: bytes, start: int, end: int):
             nl = buf.rfind(b"\n", pos, stop)
             stop = nl + 1 if nl > pos else stop
         yield pos, stop
+        drop(buf, pos, stop)
         pos = stop
 
 
-def _bounds(arr: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    ws = arr <= 32
-    edge = np.diff(ws.view(np.int8), prepend=np.int8(1), append=np.int8(1))
-    return np.flatnonzero(edge == -1), np.flatnonzero(edge == 1)
-
-
-def count_tokens(buf: bytes, start: int, end: int) -> int:
-    total = 0
+def count_tokens(buf: bytes, start: int, end: int, special: Optional[list] = None) -> int:
+    """Whitespace-separated tokens of buf[start:end]; ``special`` (a list) gets True appended when the range
+    holds a '%' (comment) or '=' (``NAME = nodes``), which the caller must clean first."""
+    total, seen = 0, False
     for a, b in _chunks(buf, start, end):
-        ws = np.frombuffer(buf, np.uint8, b - a, a) <= 32
+        arr = np.frombuffer(buf, np.uint8, b - a, a)
+        ws = arr <= 32
         total += int(np.count_nonzero(ws[:-1] > ws[1:])) + (0 if ws.size == 0 or ws[0] else 1)
+        if special is not None and not seen:
+            seen = bool(((arr == 37) | (arr == 61)).any())
+    if special is not None:
+        special.append(seen)
     return total
 
 
 def _names(buf: bytes, start: int, end: int, every: int, phase: int) -> np.ndarray:
-    """Tokens number phase, phase+every, ... of buf[start:end], each packed into a uint64 (8 bytes, zero-padded)."""
+    """Tokens number phase, phase+every, ... of buf[start:end], each packed into a uint64 (8 bytes, zero-padded,
+    in upper case). A name longer than 8 characters is cut to 8, as the native format allows no more."""
     out, seen = [], 0
     for a, b in _chunks(buf, start, end):
         arr = np.frombuffer(buf, np.uint8, b - a, a)
-        s, e = _bounds(arr)
-        idx = np.arange(seen, seen + len(s))
-        pick = (idx - phase) % every == 0
+        ws = arr <= 32
+        s = np.flatnonzero(ws[:-1] > ws[1:]) + 1          # whitespace followed by a token
+        if arr.size and not ws[0]:
+            s = np.concatenate(([0], s))
+        first = (phase - seen) % every
         seen += len(s)
-        s, e = s[pick], e[pick]
-        key = np.zeros(len(s), np.uint64)
-        for j in range(8):
-            inside = s + j < e
-            byte = arr[np.minimum(s + j, len(arr) - 1)]
-            byte = np.where((byte >= 97) & (byte <= 122), byte - 32, byte).astype(np.uint64)   # names in upper case
-            key |= np.where(inside, byte, 0).astype(np.uint64) << np.uint64(8 * j)
-        out.append(key)
+        out.append(_pack(arr, s[first::every]))
     return np.concatenate(out) if out else np.zeros(0, np.uint64)
+
+
+def _pack(arr: np.ndarray, s: np.ndarray) -> np.ndarray:
+    """The tokens starting at offsets ``s`` of ``arr``, each packed into a uint64 (8 bytes, upper case)."""
+    if not len(s):
+        return np.zeros(0, np.uint64)
+    idx = np.minimum(s[:, None] + np.arange(8), len(arr) - 1)
+    chars = arr[idx]
+    inside = np.logical_and.accumulate((chars > 32) & (s[:, None] + np.arange(8) < len(arr)), axis=1)
+    chars = np.where((chars >= 97) & (chars <= 122), chars - 32, chars) * inside   # names in upper case
+    return np.ascontiguousarray(chars, dtype=np.uint8).view("<u8").ravel()
 
 
 # ------------------------------------------------------------------------------------ reading
 
 
 def _section_end(data: bytes, pos: int, end: int) -> tuple[int, Optional[bytes]]:
-    """Offset of the FINSF (or FIN) line that closes the section after ``pos``, and which word it is."""
+    """Offset of the FINSF line that closes the section after ``pos`` (or of a FIN line when no FINSF
+    follows: the file then ends inside the section), and which word it is."""
     while True:
-        p = data.find(b"FIN", pos, end)
+        p = find(data, b"FINSF", pos, end)
         if p < 0:
-            return end, None
+            break
         ls = data.rfind(b"\n", 0, p) + 1
-        word = b"FINSF" if data.startswith(b"FINSF", p) else b"FIN"
-        after = data[p + len(word): p + len(word) + 1]
+        after = data[p + 5: p + 6]
         if not data[ls:p].strip() and (not after or after in b" \t\r\n%"):
-            return p, word
-        pos = p + 3
+            return p, b"FINSF"
+        pos = p + 5
+    for m in re.finditer(rb"(?m)^[ \t]*FIN[ \t\r%]*$", bytes(data[pos:end])) if end - pos < (64 << 20) else ():
+        return pos + m.start() + m.group().index(b"FIN"), b"FIN"
+    return end, None
 
 
 def _header(data: bytes, pos: int, end: int) -> tuple[list[bytes], int, int]:
@@ -210,42 +267,51 @@ def _header(data: bytes, pos: int, end: int) -> tuple[list[bytes], int, int]:
     return words, body, lines
 
 
-def read_mail(data: bytes, path: str) -> Mesh:
-    """Sections of a ``.mail`` file held in ``data`` (ASCII, ``\\n`` line ends)."""
+def read_mail(data, path: str) -> Mesh:
+    """Sections of a ``.mail`` file held in ``data`` (bytes or a read-only mmap; ASCII, ``\\n`` line ends).
+
+    Line numbers are counted only for the places a message names (``Mesh.line_at``)."""
     mesh = Mesh(path)
-    if data.find(b"finsf") >= 0 or data.find(b"Finsf") >= 0:   # keywords and names are read in upper case
-        data = data.upper()
-    pos, line, end = 0, 1, len(data)
+    head = data[: 1 << 20]
+    if head.find(b"finsf") >= 0 or head.find(b"Finsf") >= 0:   # lower-case keywords: names read in upper case
+        data = bytes(data[:]).upper()
+    mesh._data = data
+    pos, end = 0, len(data)
     node_ranges = []
     while pos < end:
         m = _WORD.search(data, pos)
         if m is None:
             break
-        line += data.count(b"\n", pos, m.start())
+        line = m.start()                   # an offset: Mesh.line_at turns it into a line number when needed
         if data.rfind(b"%", data.rfind(b"\n", 0, m.start()) + 1, m.start()) >= 0:   # word inside a comment
             nl = data.find(b"\n", m.start())
-            line += 0 if nl < 0 else 1
             pos = end if nl < 0 else nl + 1
             continue
         word = m.group().decode("ascii").upper()
         if word == "FIN":
             break
-        stop, closed = _section_end(data, m.end(), end)
-        words, body, hlines = _header(data, m.start(), stop)
-        buf, b0, b1 = data, body, stop
-        if data.find(b"%", body, stop) >= 0 or data.find(b"=", body, stop) >= 0:   # comments, "NAME = nodes"
-            buf = _COMMENT.sub(b"", data[body:stop]).replace(b"=", b" ")
-            b0, b1 = 0, len(buf)
-        _section(mesh, word, words, buf, b0, b1, line, node_ranges)
+        bulk = (word.startswith("COOR_") and word[5:6] in "123") or bool(_CELL.match(word))
+        if bulk:    # coordinates and cells: one pass finds the end, counts and packs the cell names
+            words, body, _hl = _header(data, m.start(), end)
+            every = cell_nodes(word) + 1 if _CELL.match(word) else 0
+            stop, closed, n, keys, special = _scan(data, body, end, every)
+        if bulk and not special:
+            _counted(mesh, word, data, body, stop, line, n, keys, node_ranges)
+        else:
+            if not bulk:
+                stop, closed = _section_end(data, m.end(), end)
+            words, body, _hl = _header(data, m.start(), stop)
+            _section(mesh, word, words, data, body, stop, line, node_ranges)
         if closed is None:
             mesh.issues.append(MeshIssue("truncated", f"section {word} has no FINSF: the file ends inside it", line))
-        line += data.count(b"\n", m.start(), stop)
         if closed == b"FIN":
             break
         pos = stop + 5
     if not node_ranges and not mesh.cells:
         mesh.issues = [MeshIssue("malformed-data", "the file holds no COOR_1D/2D/3D section and no cells: it is not a "
                                  "native code_aster mesh", 1)]
+    for issue in sorted(mesh.issues, key=lambda i: i.line):   # offsets so far: now line numbers
+        issue.line = mesh.line_at(issue.line)
     first = 0
     for c in mesh.cells:
         c.first = first
@@ -254,33 +320,130 @@ def read_mail(data: bytes, path: str) -> Mesh:
     return mesh
 
 
+def _finsf_in(data, a: int, b: int, end: int, by_letter: bool = False) -> int:
+    """Offset of the first FINSF at a line start in data[a:b] (it may run past b up to end), or -1.
+    ``by_letter``: look at each 'F' (a one-byte search, fast; 'F' is rare in coordinates and cells)."""
+    if by_letter:
+        p = data.find(b"F", a, b)
+        while p >= 0:
+            if data[p:p + 5] == b"FINSF" and _finsf_in(data, p, p + 1, end) >= 0:
+                return p
+            p = data.find(b"F", p + 1, b)
+        return -1
+    while True:
+        p = data.find(b"FINSF", a, min(end, b + 4))
+        if p < 0 or p >= b:
+            return -1
+        ls = data.rfind(b"\n", 0, p) + 1
+        after = data[p + 5: p + 6]
+        if not bytes(data[ls:p]).strip() and (not after or after in b" \t\r\n%"):
+            return p
+        a = p + 5
+
+
+def _scan(data, body: int, end: int, every: int) -> tuple:
+    """One pass over a coordinate or cell section from ``body``: (end offset, "FINSF" or None, token count,
+    packed names of tokens 0, every, 2 every ... (cells; None for coordinates), whether it holds '%' or '=')."""
+    keys, total, special = [], 0, False
+    pos, closed = body, None
+    while pos < end:
+        stop = min(end, pos + SCAN_CHUNK)
+        if stop < end:
+            nl = data.rfind(b"\n", pos, stop)
+            stop = nl + 1 if nl > pos else stop
+        p = _finsf_in(data, pos, stop, end, by_letter=True)
+        if p >= 0:
+            stop, closed = p, b"FINSF"
+        arr = np.frombuffer(data, np.uint8, stop - pos, pos)
+        ws = arr <= 32
+        if not special:   # one-byte searches (memchr): comments or "NAME = nodes" need a cleaned copy
+            special = data.find(b"%", pos, stop) >= 0 or data.find(b"=", pos, stop) >= 0
+        if every and not special:
+            starts = np.flatnonzero(ws[:-1] > ws[1:]) + 1
+            if arr.size and not ws[0]:
+                starts = np.concatenate(([0], starts))
+            keys.append(_pack(arr, starts[(-total) % every::every]))
+            total += len(starts)
+        else:
+            total += int(np.count_nonzero(ws[:-1] > ws[1:])) + (0 if ws.size == 0 or ws[0] else 1)
+        drop(data, pos, stop)
+        pos = stop
+        if closed:
+            break
+    if closed is None:
+        stop = end
+        fin, word = _section_end(data, body, end)      # no FINSF: a FIN line may end the file inside the section
+        if word == b"FIN":
+            stop, _c, total, packed, special = _scan(data, body, fin, every)
+            return stop, b"FIN", total, packed, special
+    packed = (np.concatenate(keys) if keys else np.zeros(0, np.uint64)) if every and not special else None
+    return stop, closed, total, packed, special
+
+
+def _counted(mesh: Mesh, word: str, data, b0: int, b1: int, line: int, n: int, keys, node_ranges: list) -> None:
+    if keys is None:
+        dim = int(word[5])
+        mesh.dim = max(mesh.dim, dim)
+        if n % (dim + 1):
+            mesh.issues.append(MeshIssue("malformed-data", f"{word}: {n} fields are not whole lines of a name and "
+                                         f"{dim} coordinates", line))
+        mesh.node_count += n // (dim + 1)
+        node_ranges.append((data, b0, b1, dim, n // (dim + 1)))
+        return
+    nodes = cell_nodes(word)
+    if n % (nodes + 1):
+        mesh.issues.append(MeshIssue("malformed-data", f"{word}: {n} fields are not whole cells of a name and "
+                                     f"{nodes} nodes", line))
+    cells = Cells(word, nodes, data, b0, b1, line, n // (nodes + 1))
+    cells.keys = keys[:cells.count]
+    mesh.cells.append(cells)
+
+
+def _clean(buf, b0: int, b1: int) -> tuple[bytes, int, int]:
+    """The range without comments and with '=' read as a blank (``NAME = nodes``): a copy."""
+    out = _COMMENT.sub(b"", bytes(buf[b0:b1])).replace(b"=", b" ")
+    return out, 0, len(out)
+
+
+def _tokens(buf, b0: int, b1: int) -> tuple:
+    """(token count, buffer, start, end): counted in one pass, and again on a cleaned copy when needed."""
+    special: list = []
+    n = count_tokens(buf, b0, b1, special)
+    if special[0]:
+        buf, b0, b1 = _clean(buf, b0, b1)
+        n = count_tokens(buf, b0, b1)
+    return n, buf, b0, b1
+
+
 def _section(mesh: Mesh, word: str, words: list[bytes], buf: bytes, b0: int, b1: int, line: int,
              node_ranges: list) -> None:
     if word.startswith("COOR_") and word[5:6] in "123":
         dim = int(word[5])
         mesh.dim = max(mesh.dim, dim)
-        n = count_tokens(buf, b0, b1)
+        n, buf, b0, b1 = _tokens(buf, b0, b1)
         if n % (dim + 1):
             mesh.issues.append(MeshIssue("malformed-data", f"{word}: {n} fields are not whole lines of a name and "
                                          f"{dim} coordinates", line))
         mesh.node_count += n // (dim + 1)
         node_ranges.append((buf, b0, b1, dim, n // (dim + 1)))
     elif word in ("GROUP_MA", "GROUP_NO"):
+        if find(buf, b"%", b0, b1) >= 0 or find(buf, b"=", b0, b1) >= 0:
+            buf, b0, b1 = _clean(buf, b0, b1)
         named = re.search(rb"\bNOM\s*=\s*(\S+)", b" ".join(words), re.IGNORECASE)
         name = named.group(1) if named else None
         if name is None:
-            toks = buf[b0:b1].split(None, 1)
+            toks = bytes(buf[b0:min(b1, b0 + 4096)]).split(None, 1)
             if not toks:
                 mesh.issues.append(MeshIssue("malformed-data", f"{word} without a name", line))
                 return
             name = toks[0]
-            b0 = buf.index(name, b0) + len(name)
+            b0 = buf.find(name, b0, b1) + len(name)
         key = name.decode("latin-1")
         target = mesh.groups if word == "GROUP_MA" else mesh.node_groups
         target.setdefault(key, []).append(Group(word, key, buf, b0, b1, line))
     elif _CELL.match(word):
         nodes = cell_nodes(word)
-        n = count_tokens(buf, b0, b1)
+        n, buf, b0, b1 = _tokens(buf, b0, b1)
         if n % (nodes + 1):
             mesh.issues.append(MeshIssue("malformed-data", f"{word}: {n} fields are not whole cells of a name and "
                                          f"{nodes} nodes", line))
@@ -290,6 +453,12 @@ def _section(mesh: Mesh, word: str, words: list[bytes], buf: bytes, b0: int, b1:
 
 
 def _floats(chunk: bytes, dim: int) -> np.ndarray:
+    toks = chunk.split()
+    if toks and len(toks) % (dim + 1) == 0:
+        try:
+            return np.array(toks).reshape(-1, dim + 1)[:, 1:].astype(float)
+        except ValueError:          # a line with another field count, or Fortran D exponents: line by line
+            pass
     rows = []
     for ln in chunk.split(b"\n"):
         parts = ln.split()

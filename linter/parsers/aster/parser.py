@@ -19,6 +19,7 @@ from . import DEFAULT_DIALECT, FORMAT
 from .cells import MeshUse
 from .commands import read_program
 from .mail import read_mail
+from .mapped import open_mesh
 from .study import StudyBuilder, mesh_path
 
 #: command files above this size are not parsed (a study's command file is a few hundred kB at most)
@@ -150,7 +151,7 @@ def _study(model: DeckModel, csrc, comm_display: str, units: dict, options) -> N
             model.includes.append(Include(shown, real, Loc(comm_display, line)))
             return None
         try:
-            msrc = read_deck_bytes(real, options.max_file_size)
+            mdata = open_mesh(real, options.max_file_size)
         except SourceError as exc:
             code = "missing-include" if not os.path.exists(real) else "include-unreadable"
             model.issues.append(Issue(code, f"mesh {shown}: {exc.message}", Loc(comm_display, line),
@@ -159,7 +160,7 @@ def _study(model: DeckModel, csrc, comm_display: str, units: dict, options) -> N
             return None
         model.includes.append(Include(shown, real, Loc(comm_display, line)))
         model.files.append(shown)
-        mesh = read_mail(msrc.data, shown)
+        mesh = read_mail(mdata, shown)
         for mi in mesh.issues:
             model.issues.append(Issue(mi.code, f"{mi.message}", Loc(shown, mi.line)))
         _geometry(model, mesh)

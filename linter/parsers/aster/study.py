@@ -30,6 +30,8 @@ ANALYSES = {"MECA_STATIQUE": "static", "STAT_NON_LINE": "static", "DYNA_NON_LINE
             "THER_NON_LINE": "heat-steady", "CALC_MODES_MULT": "frequency", "MACRO_MODE_MECA": "frequency"}
 #: element ids are model number << MODEL_ID_SHIFT plus the global cell index
 MODEL_ID_SHIFT = 40
+#: material entries of one model told apart by the bits of an int64 (more: plain id sets)
+MAX_BITS = 50
 MESH_COMMANDS = ("CREA_MAILLAGE", "ASSE_MAILLAGE", "MODI_MAILLAGE", "PROJ_MAILLAGE", "RAFF_XFEM")
 
 
@@ -44,6 +46,7 @@ class StudyBuilder:
         self.mat_of: dict[int, str] = {}           # id(DEFI_MATERIAU command) -> material key
         self.loads: dict[int, list[Load]] = {}     # id(AFFE_CHAR_*) -> loads
         self.builder = ModelBuilder(model)
+        self._extra_ids: dict[int, list] = {}
         self.notes: list = []
         self.next_offset = 0
 
@@ -144,9 +147,9 @@ class StudyBuilder:
         if use is None or use.mesh is None:
             self.notes.append(("unchecked", "AFFE_MODELE: its mesh is not read", cmd.line))
             return
-        base = (len(self.models) + 1) << MODEL_ID_SHIFT
-        blocks = self.builder.add(use, cmd, self.notes, base)
-        self.models[cmd.target or f"@{cmd.line}"] = (use, blocks, base)
+        forms = self.builder.add(use, cmd, self.notes)
+        if forms is not None:
+            self.models[cmd.target or f"@{cmd.line}"] = (use, forms, (len(self.models) + 1) << MODEL_ID_SHIFT)
 
     def _affe_materiau(self, cmd: Command) -> None:
         """Material assignments, kept until the end: which models use this field decides the elements."""
@@ -188,38 +191,52 @@ class StudyBuilder:
             temps.extend(self._temperature(occ))
         self.chams[id(cmd)] = (cmd, use, entries, temps)
 
+    def _paired_models(self, cid: int, use) -> list[str]:
+        paired = self.pairs.get(cid)
+        if not paired:   # a field no command pairs with a model: the models no other field is used with
+            mine = {name for name, m in self.models.items() if m[0] is use}
+            taken = set().union(*self.pairs.values()) if self.pairs else set()
+            paired = (mine - taken) or mine
+        return [m for m in sorted(paired) if m in self.models and self.models[m][0] is use]
+
     def _sections(self) -> None:
-        """Sections of every material field on the elements of the models it is used with."""
-        for cid, (cmd, use, entries, _temps) in self.chams.items():
-            paired = self.pairs.get(cid)
-            if not paired:   # a field no command pairs with a model: the models no other field is used with
-                mine = {name for name, m in self.models.items() if m[0] is use}
-                taken = set().union(*self.pairs.values()) if self.pairs else set()
-                paired = (mine - taken) or mine
-            models = [self.models[m] for m in sorted(paired) if m in self.models and self.models[m][0] is use]
-            for occ, state, idx, what, materials in entries:
-                if state == "missing":
-                    key, name = norm_key(what), what
-                else:
-                    ids = [m[2] + use.offset + idx for m in models]
-                    ids = np.concatenate(ids) if ids else np.zeros(0, np.int64)
-                    name = "TOUT='OUI'" if occ.get("TOUT") == "OUI" else what
-                    key = f"{norm_key(name)}@{cmd.target or cmd.line}:{occ.line}"
-                    element_set(self.model, key, name, self.loc(occ.line), ids=ids)
-                    if not models or not self._covers(key):
-                        self.model.unchecked.append(Unchecked(
-                            "AFFE_MATERIAU", self.loc(occ.line),
-                            f"material on {name}, where the models used with this field have no finite element"))
-                        continue
-                self.model.sections.append(Section(kind="solid", card="AFFE_MATERIAU", elset=key, elset_name=name,
-                                                   materials=materials, loc=self.loc(occ.line)))
-
-    def _covers(self, key: str) -> bool:
-        from ...usage import resolve_set
-
-        sel = resolve_set(self.model, key)
-        self.model.derived.pop("_sets", None)
-        return bool(sel and sel.counts(self.model))
+        """Element blocks of every model, split by the material entries that cover their cells, and one
+        section per entry on the blocks it covers (sets hold whole blocks: no id look-ups)."""
+        sets: dict[int, list[int]] = {}                 # entry number -> block indices
+        entries = []                                    # (cham cmd, occ, state, idx, what, materials)
+        for cid, (cmd, use, found, _t) in self.chams.items():
+            for e in found:
+                entries.append((cid, use, cmd) + tuple(e))
+        for name, (use, forms, base) in self.models.items():
+            mine = [i for i, e in enumerate(entries) if e[4] != "missing" and e[1] is use
+                    and name in self._paired_models(e[0], use)]
+            bitted, rest = mine[:MAX_BITS], mine[MAX_BITS:]
+            cover = np.zeros(use.mesh.cell_count, np.int64)
+            for bit, i in enumerate(bitted):
+                cover[entries[i][5]] |= np.int64(1) << np.int64(bit)
+            for blk, bits in self.builder.blocks(forms, base, cover):
+                for bit, i in enumerate(bitted):
+                    if bits >> bit & 1:
+                        sets.setdefault(i, []).append(blk)
+            for i in rest:   # beyond the bits of one integer: plain id sets
+                sets.setdefault(i, [])
+                self._extra_ids.setdefault(i, []).append(base + use.offset + entries[i][5])
+        for i, (_cid, use, cmd, occ, state, idx, what, materials) in enumerate(entries):
+            if state == "missing":
+                key, name = norm_key(what), what
+            else:
+                name = "TOUT='OUI'" if occ.get("TOUT") == "OUI" else what
+                key = f"{norm_key(name)}@{cmd.target or cmd.line}:{occ.line}"
+                extra = self._extra_ids.get(i)
+                element_set(self.model, key, name, self.loc(occ.line), blocks=sets.get(i, []),
+                            ids=np.concatenate(extra) if extra else None)
+                if not sets.get(i) and not extra:
+                    self.model.unchecked.append(Unchecked(
+                        "AFFE_MATERIAU", self.loc(occ.line),
+                        f"material on {name}, where the models used with this field have no finite element"))
+                    continue
+            self.model.sections.append(Section(kind="solid", card="AFFE_MATERIAU", elset=key, elset_name=name,
+                                               materials=materials, loc=self.loc(occ.line)))
 
     def _pair(self, cmd: Command) -> None:
         """Remember which models a material field is used with (MODELE= and CHAM_MATER= of one command)."""

@@ -70,7 +70,7 @@ def parse(path: str, options) -> DeckModel:
         units = doc.text(got["units"][1], "units")
         if units:
             model.extras["declared_units"] = units
-            model.extras["declared_units_line"] = doc.loc(got["units"][1]).line
+            model.extras["declared_units_loc"] = doc.loc(got["units"][1])
     from .materials import read_materials
     from .regions import read_regions, section_of
     from .steps import read_analysis
