@@ -105,7 +105,7 @@ BLOCK_LAYOUTS: dict[tuple[str, str], tuple[str, ...]] = {
     # hardening table: one row per point; temperature groups by Row.temperature
     ("plastic", "iso"): ("stress", "plastic_strain"),
     ("deformation_plasticity", "iso"): ("E", "nu", "sigma0", "n", "alpha"),
-    # hyperelastic forms: constants in the ccx order (formats.md 2.5); D's included
+    # hyperelastic forms: constants in the ccx order (CalculiX User's Manual *HYPERELASTIC); D's included
     ("hyperelastic", "neo-hooke"): ("C10", "D1"),
     ("hyperelastic", "mooney-rivlin"): ("C10", "C01", "D1"),
     ("hyperelastic", "polynomial-1"): ("C10", "C01", "D1"),
@@ -183,7 +183,7 @@ class Material:
     blocks: list[PropertyBlock] = field(default_factory=list)
     #: defined after the first analysis step (keyword decks), which the solver refuses
     after_step: bool = False
-    #: filled by ``linter.derive`` (e.g. {"elastic": [...rows of G, K, lambda, M...], "hyper": {...}})
+    #: filled by ``linter.derived`` (e.g. {"elastic": [...rows of G, K, lambda, M...], "hyper": {...}})
     derived: dict[str, Any] = field(default_factory=dict)
 
     def find(self, kind: str) -> list[PropertyBlock]:
@@ -439,7 +439,7 @@ class DeckModel:
     params: dict[str, Any] = field(default_factory=dict)
     #: loc of the first analysis step (keyword decks), or None
     first_step: Optional[Loc] = None
-    #: results of model-wide derivations (``linter.derive``), e.g. {"unit_system": {...}}
+    #: results of model-wide derivations (``linter.derived``), e.g. {"unit_system": {...}}
     derived: dict[str, Any] = field(default_factory=dict)
     #: format-specific extras a format's own rules may read (documented by each parser)
     extras: dict[str, Any] = field(default_factory=dict)

@@ -263,7 +263,9 @@ def apply(model, findings: list, prefixes: tuple[str, ...]) -> list:
     if not prefixes:
         return []
     sups: list[Suppression] = []
-    for path in dict.fromkeys(model.files or [model.path]):
+    # a format whose files include data without comments (the meshes of the material-file route) lists
+    # the files that carry its comments in extras["commented_files"]
+    for path in dict.fromkeys(model.extras.get("commented_files") or model.files or [model.path]):
         sups.extend(scan_file(path, prefixes))
     if not sups:
         return []

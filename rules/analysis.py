@@ -13,8 +13,8 @@ from linter.model import DeckModel, Material, norm_key
 from linter.registry import rule
 from linter.usage import material_usage, resolve_set
 
-CCX_MAT = "CalculiX User's Manual, Materials: data required by the analysis (formats.md 2.1)"
-NAS_SOL = "Nastran solution sequences and the material data each needs (formats.md 5.9)"
+CCX_MAT = "CalculiX User's Manual, Materials: data required by the analysis"
+NAS_SOL = "Nastran solution sequences and the material data each needs"
 MECHANICAL = ("elastic", "hyperelastic", "hyperfoam", "deformation_plasticity", "user")
 THERMAL_ROLES = ("thermal",)
 NON_STRUCTURAL = ("heat", "fluid", "network")

@@ -1,6 +1,6 @@
 """analysis/explicit-time-step: the stable time increment each material allows in an explicit step.
 
-dt ~ L_e / c_d per material (physics.md 6.3), with L_e the smallest edge of the material's elements
+dt ~ L_e / c_d per material (Belytschko, Liu & Moran 2000 ch. 6), with L_e the smallest edge of the material's elements
 (``linter.physics.mesh``) and c_d the dilatational wave speed: sqrt(M/rho) from the isotropic elastic
 row, or sqrt((K0 + 4 mu0/3)/rho) from ``Material.derived["hyper"]``. When connectivity or nodes are
 not available, L_e is estimated as (bounding-box volume / element count)^(1/d) and marked as such.
@@ -19,7 +19,7 @@ from linter.rules.analysis import used_materials
 from linter.usage import material_usage, resolve_set
 from ._text import short
 
-BLM = "Belytschko, Liu & Moran 2000 ch. 6, as cited in physics.md 6.3"
+BLM = "Belytschko, Liu & Moran 2000 ch. 6"
 
 
 def smallest_length(model, key: str) -> Optional[float]:

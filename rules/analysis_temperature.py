@@ -10,10 +10,10 @@ from linter.registry import rule
 from linter.rules.analysis import has_expansion, initial_values, used_materials
 from ._text import short
 
-CCX_T = "CalculiX User's Manual *MATERIAL: outside the table the value is held constant (formats.md 2.1)"
-NAS_T = "Nastran TABLEM/TABLES1: linear extrapolation in some dialects (formats.md 5.3)"
-CCX_EXP = "CalculiX User's Manual *EXPANSION, ZERO= (formats.md 2.3)"
-NAS_EXP = "Nastran MAT1 TREF (formats.md 5.1)"
+CCX_T = "CalculiX User's Manual *MATERIAL: outside the table the value is held constant"
+NAS_T = "Nastran TABLEM/TABLES1: linear extrapolation in some dialects"
+CCX_EXP = "CalculiX User's Manual *EXPANSION, ZERO="
+NAS_EXP = "Nastran MAT1 TREF"
 TABLE_KINDS = ("elastic", "expansion", "conductivity", "specific_heat", "density", "plastic")
 WORDS = {"elastic": "elastic", "expansion": "expansion", "conductivity": "conductivity",
          "specific_heat": "specific heat", "density": "density", "plastic": "hardening"}

@@ -11,10 +11,10 @@ from linter.model import Loc
 from linter.registry import rule
 from ._text import row_label, rows_text, short
 
-LEMPRIERE = "Lempriere 1968, Poisson's ratio in orthotropic materials (physics.md 2.3)"
-JONES = "Jones 1999, Mechanics of Composite Materials, 2.2 (orthotropic compliance; physics.md 2.2)"
-CCX_EL = "CalculiX User's Manual *ELASTIC (TYPE=ORTHO, ENGINEERING CONSTANTS, ANISO); formats.md 2.2"
-NAS = "Nastran bulk data MAT2, MAT8, MAT9 (formats.md 5.2)"
+LEMPRIERE = "Lempriere 1968, Poisson's ratio in orthotropic materials"
+JONES = "Jones 1999, Mechanics of Composite Materials, 2.2 (orthotropic compliance)"
+CCX_EL = "CalculiX User's Manual *ELASTIC (TYPE=ORTHO, ENGINEERING CONSTANTS, ANISO)"
+NAS = "Nastran bulk data MAT2, MAT8, MAT9"
 FORM_WORDS = {"ortho": "orthotropic (D values)", "engineering": "engineering constants",
               "aniso": "anisotropic (21 D values)", "mat9": "MAT9 anisotropic", "mat2": "MAT2 2D anisotropic",
               "lamina": "MAT8 orthotropic lamina"}
@@ -163,7 +163,7 @@ def _fluid_like(mat, entry) -> bool:
       rationale="A positive-definite stiffness whose largest and smallest eigenvalues differ by many orders "
                 "of magnitude (a typo in one constant, mixed units, a 'rigid' direction faked with a huge "
                 "modulus) makes the stiffness matrix ill-conditioned and the solution sensitive to round-off.",
-      references=("physics.md 2.3 (lambda_min/lambda_max < 1e-8 suggested)",),
+      references=("lambda_min/lambda_max < 1e-8 suggested (common practice, from memory)",),
       data="rows: [{line, temperature, condition}]; limit",
       thresholds=("aniso.condition_limit", "aniso.eigen_rel_tol"))
 def ill_conditioned(model, ctx):
@@ -198,8 +198,8 @@ def _is_directional(mat) -> bool:
                 "was not meant to be. Keyword decks: the solid section has no ORIENTATION=. Bulk decks: "
                 "PSOLID CORDM is blank (it defaults to the basic system); an explicit CORDM, 0 included, is "
                 "taken as a deliberate choice and not reported.",
-      references=("CalculiX User's Manual *SOLID SECTION, *ORIENTATION; formats.md 1.5, 1.6",
-                  "Nastran PSOLID CORDM (formats.md 5.5)"),
+      references=("CalculiX User's Manual *SOLID SECTION, *ORIENTATION",
+                  "Nastran PSOLID CORDM"),
       data="section: card; elset")
 def missing_orientation(model, ctx):
     seen = set()
@@ -226,7 +226,7 @@ def missing_orientation(model, ctx):
       rationale="The second law requires the conductivity tensor to be positive definite (heat flows from hot "
                 "to cold in every direction). An orthotropic value <= 0 or off-diagonal terms too large "
                 "for the diagonal give a tensor that is not.",
-      references=("CalculiX User's Manual *CONDUCTIVITY; Nastran MAT5 (formats.md 2.3, 5.4)",),
+      references=("CalculiX User's Manual *CONDUCTIVITY; Nastran MAT5",),
       data="rows: [{line, temperature, eig_min, eig_max}]",
       thresholds=("aniso.eigen_rel_tol",))
 def conductivity_not_pd(model, ctx):

@@ -14,10 +14,11 @@ from linter.usage import material_usage
 
 from ._text import at_t, listing, num
 
-CCX_ELASTICS = "ccx source, elastics.f: '*ERROR reading *ELASTIC: Poisson coefficient should be less than 0.5' (formats.md 6)"
-MODULI_TABLE = "Standard conversion table of isotropic moduli (physics.md 1.1, 1.2)"
-N95_MAT1 = "NASTRAN-95 user's manual MAT1 remark 8: solid elements must not have NU equal to 0.5 (formats.md 6)"
-MYS_SOLID = "MYSTRAN source MATERIAL_PROPS_3D.f90: *ERROR 1936 '1 - 2*NU is too close to zero' for solids (formats.md 6)"
+CCX_ELASTICS = "ccx source, elastics.f: '*ERROR reading *ELASTIC: Poisson coefficient should be less than 0.5'"
+MODULI_TABLE = ("Standard conversion table of isotropic moduli (Mavko, Mukerji & Dvorkin, The Rock Physics Handbook, "
+                "2003)")
+N95_MAT1 = "NASTRAN-95 user's manual MAT1 remark 8: solid elements must not have NU equal to 0.5"
+MYS_SOLID = "MYSTRAN source MATERIAL_PROPS_3D.f90: *ERROR 1936 '1 - 2*NU is too close to zero' for solids"
 
 DATA_ROWS = "rows: list of {T, line, E, nu, G, K, lambda, K_over_G} of the rows concerned"
 
@@ -191,7 +192,8 @@ def modulus_nonpositive(model, ctx):
       title="Negative Poisson's ratio (auxetic)",
       rationale="-1 < nu < 0 is admissible but rare (auxetic foams and lattices); for an ordinary material it "
                 "usually is a sign error or a value typed into the wrong field.",
-      references=(MODULI_TABLE, "physics.md 1.3 (typical Poisson's ratios by material class)"),
+      references=(MODULI_TABLE, "typical Poisson's ratios by material class: EN 1993-1-1 3.2.6 (steel 0.3), "
+                                "EN 1992-1-1 3.1.3 (concrete 0.2), ASM Handbook data sheets"),
       data=DATA_ROWS)
 def poisson_negative(model, ctx):
     for mat in model.all_materials():
@@ -210,7 +212,8 @@ def poisson_negative(model, ctx):
                 "(K/G = 2(1+nu)/(3(1-2nu)): 24.7 at nu = 0.48, 500 at 0.499). Fully integrated low-order "
                 "elements then lock and the system becomes ill-conditioned; check the element choice "
                 "(see element/volumetric-locking).",
-      references=(MODULI_TABLE, "physics.md 6.2 (onset of trouble nu = 0.45-0.49, from memory)"),
+      references=(MODULI_TABLE,
+                  "Hughes, The Finite Element Method (2000) ch. 4 (onset of trouble nu = 0.45-0.49, from memory)"),
       data=DATA_ROWS + "; threshold: elastic.near_incompressible_nu",
       thresholds=("elastic.near_incompressible_nu",))
 def near_incompressible(model, ctx):

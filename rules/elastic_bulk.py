@@ -1,7 +1,7 @@
 """elastic/* rules that only bulk decks need: the MAT1 E/G/NU relations.
 
 MAT1 takes any two of E, G and NU and computes the third; all three may be given, and
-blanks follow fixed rules (formats.md 5.1, from the NASTRAN-95 User's Manual MAT1 remarks
+blanks follow fixed rules (from the NASTRAN-95 User's Manual MAT1 remarks
 and the MYSTRAN User Manual / source BD_MAT1.f90). The parser keeps what was given in
 ``PropertyBlock.options`` (``given``, ``defaulted``, ``E``, ``G``, ``NU``).
 """
@@ -14,11 +14,12 @@ from linter.usage import material_usage
 
 from ._text import listing, num
 
-N95 = "NASTRAN-95 User's Manual, MAT1 remarks (blank fields; G = E/(2(1+NU))) (formats.md 5.1)"
-MYS = "MYSTRAN User Manual MAT1; MYSTRAN source BD_MAT1.f90, MATERIAL_PROPS_3D.f90 (formats.md 5.1)"
-USE_NOTE = "Element use of MAT1 constants: rods, bars, beams E and G; plates E, NU and G (formats.md 5.1)"
+N95 = "NASTRAN-95 User's Manual, MAT1 remarks (blank fields; G = E/(2(1+NU)))"
+MYS = "MYSTRAN User Manual MAT1; MYSTRAN source BD_MAT1.f90, MATERIAL_PROPS_3D.f90"
+USE_NOTE = ("Element use of MAT1 constants: rods, bars, beams E and G; plates E, NU and G (NASTRAN-95 User's Manual "
+            "MAT1 remarks)")
 
-#: what each section kind takes from MAT1 (formats.md 5.1)
+#: what each section kind takes from MAT1 (NASTRAN-95 User's Manual MAT1 remarks)
 USES = {
     "solid": "solids (PSOLID) take E and NU for the normal terms and G directly for the shear terms, so the "
              "stiffness matrix is not isotropic",

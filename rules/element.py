@@ -73,9 +73,10 @@ def _stiffness_cause(mat, ctx):
                 "severe elements a note. Bulk solids are graded unknown: there the dialect and the element "
                 "integration options decide, so at most a warning.",
       references=("CCX-UM Element Types: C3D8 'behave badly for isochoric material behavior, i.e. for high values "
-                  "of Poisson's coefficient or plastic behavior'; C3D20R 'performs well' (formats.md 3)",
-                  "physics.md 6.1-6.2 (locking of low-order displacement elements; cures)",
-                  "MYSTRAN user's manual PSOLID: ISOP=REDUCED is reduced shear integration (formats.md 5.5)"),
+                  "of Poisson's coefficient or plastic behavior'; C3D20R 'performs well' (CalculiX CrunchiX User's "
+                  "Manual, Element Types)",
+                  "Hughes, The Finite Element Method (2000) ch. 4 (locking of low-order displacement elements; cures)",
+                  "MYSTRAN user's manual PSOLID: ISOP=REDUCED is reduced shear integration"),
       data="cause: isotropic | hyperelastic | plastic; nu, K_over_G or K0_over_mu0; types: {type: {count, grade}}; "
            "alternatives: {type: [non-locking types of the same family]}",
       thresholds=("element.locking_ratio", "elastic.near_incompressible_nu", "element.locking_error_nu",

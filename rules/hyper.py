@@ -12,9 +12,10 @@ from linter.physics.hyper_stability import MODE_NAMES
 from linter.registry import rule
 from ._text import row_label, rows_text, short
 
-CCX_HYP = "CalculiX User's Manual *HYPERELASTIC, *HYPERFOAM; ccx hyperelastics.f (formats.md 2.5, 2.6)"
-ENERGIES = "physics.md 3.1-3.2 (initial moduli of the D-convention energies)"
-HILL = "Drucker/Hill stability of incompressible isotropic hyperelasticity (physics.md 3.4)"
+CCX_HYP = "CalculiX User's Manual *HYPERELASTIC, *HYPERFOAM; ccx hyperelastics.f"
+ENERGIES = ("CalculiX User's Manual *HYPERELASTIC (D-convention energies); initial moduli mu0 = 2(C10 + C01), "
+            "K0 = 2/D1 (standard)")
+HILL = "Drucker/Hill stability of incompressible isotropic hyperelasticity (arXiv:2511.13792)"
 
 
 def _entries(model):
@@ -81,7 +82,7 @@ def negative_bulk(model, ctx):
                 "compressible than a rubber (K0/mu0 of 1e3 to 1e4): volume changes and stresses under "
                 "confinement are wrong. Give D1 = 2/K0 explicitly. (A zero D2 or D3 is defaulted too, but only "
                 "D1 sets K0, so only a defaulted D1 is reported.)",
-      references=(CCX_HYP, "physics.md 3.2"),
+      references=(CCX_HYP, ENERGIES),
       data="model; rows: [{line, temperature, D, D_used, K0_over_mu0, nu0}]",
       dialects=("calculix",))
 def compressibility_defaulted(model, ctx):
@@ -110,7 +111,7 @@ def compressibility_defaulted(model, ctx):
       rationale="Solid rubbers have K0/mu0 of about 1e3 to 1e4 (nu0 above 0.4995). An elastomer-like set "
                 "(small mu0) with K0/mu0 below the threshold (nu0 under about 0.475) is usually a D given in "
                 "the wrong convention, or a bulk modulus typed where D belongs.",
-      references=("physics.md 3.2 (K0/mu0 < ~20 suspicious for a solid rubber)", CCX_HYP),
+      references=("K0/mu0 < ~20 suspicious for a solid rubber (common practice, from memory)", CCX_HYP),
       data="model; rows: [{line, temperature, mu0, K0_over_mu0, nu0}]; min_bulk_ratio; elastomer_mu0; unit_note",
       thresholds=("hyper.min_bulk_ratio", "hyper.elastomer_mu0_mpa", "hyper.unit_min_confidence"))
 def too_compressible(model, ctx):
@@ -155,7 +156,7 @@ def _intervals(ivs) -> str:
                 "positive definite, and implicit solutions diverge or localise. The check scans uniaxial, "
                 "equibiaxial and planar tension/compression with the 2x2 Hill criterion (the nominal-stress "
                 "slope alone is only a necessary condition). Loss inside the working stretch range is an error.",
-      references=(HILL, "Ogden 1972, Proc. R. Soc. Lond. A 326 (physics.md 3.5)"),
+      references=(HILL, "Ogden 1972, Proc. R. Soc. Lond. A 326"),
       data="model; criterion; stretch_range; working_range; rows: [{line, temperature, modes: {UT|ET|PS: "
            "{stable, unstable}}, in_working_range}]",
       thresholds=("hyper.stretch_range", "hyper.stretch_points", "hyper.working_range"))

@@ -36,7 +36,8 @@ def _blocks(model, form):
                 "dominates the stiffness matrix and the Newton iterations converge badly or not at all "
                 "(a warning). A fluid's bulk modulus k must be positive too.",
       references=(FEBIO_UNCOUPLED, FEBIO_FLUID,
-                  "physics.md 3.2 (nu from K/mu)", "thresholds.yaml hyper.uncoupled_ratio_min/max"),
+                  "nu = (3K - 2mu)/(6K + 2mu), the isotropic relation (standard)",
+                  "thresholds.yaml hyper.uncoupled_ratio_min/max"),
       data="k, mu0, k_over_mu0, nu_equivalent, limit",
       thresholds=("hyper.uncoupled_ratio_min", "hyper.uncoupled_ratio_max"))
 def penalty_bulk_modulus(model, ctx):

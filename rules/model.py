@@ -12,10 +12,10 @@ from linter.usage import material_usage, resolve_set, unassigned
 
 from ._text import include_restates, listing
 
-CCX_MAT = "CalculiX User's Manual, *MATERIAL and Materials (formats.md 2.1)"
-CCX_SECTIONS = "CalculiX User's Manual, *SOLID SECTION / *SHELL SECTION; ccx source solidsections.f (formats.md 1.5)"
-CCX_CALINPUT = "ccx source calinput.f: 'no material was assigned to element N' (formats.md 1.5)"
-BULK_GRAPH = "element -> property -> material (formats.md 5.8)"
+CCX_MAT = "CalculiX User's Manual, *MATERIAL and Materials"
+CCX_SECTIONS = "CalculiX User's Manual, *SOLID SECTION / *SHELL SECTION; ccx source solidsections.f"
+CCX_CALINPUT = "ccx source calinput.f: 'no material was assigned to element N'"
+BULK_GRAPH = "element -> property -> material (MYSTRAN User Manual, element and property cards)"
 
 MECHANICAL_KINDS = ("elastic", "hyperelastic", "hyperfoam", "deformation_plasticity", "user")
 
@@ -56,7 +56,7 @@ def undefined_material(model, ctx):
                 "compares them) or the same material id: which one a section gets depends on the solver, and "
                 "a copy-paste left-over is the usual cause.",
       references=(CCX_MAT, "NASTRAN-95 user's manual MAT1 remark 3: MID unique among structural materials "
-                           "(formats.md 5.1)"),
+                           "(MYSTRAN User Manual MAT1)"),
       data="first: path:line of the first definition; again: path:line of this one")
 def duplicate_material(model, ctx):
     for dup in model.duplicate_materials:

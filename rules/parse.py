@@ -18,7 +18,9 @@ ISSUE_RULES = {
                         "The solver stops when an include is missing; everything defined in it (materials, "
                         "sets) is also missing from this check, which is marked incomplete. Findings that follow "
                         "only from the missing file are not repeated; when no element is left, the finding lists "
-                        "the checks that could not run.", ("CCX-UM *INCLUDE; formats.md 1.3, 4.4",)),
+                        "the checks that could not run.",
+                        ("CalculiX CrunchiX User's Manual *INCLUDE; NASTRAN-95 User's Manual and MYSTRAN source "
+                         "LOADB.f90, INCLUDE",)),
     "include-refused": ("error", "An include leaves the include root",
                         "An include that resolves outside the include root (the configuration's folder, the "
                         "git work tree, or the common folder of the paths given) is refused, so that a "
@@ -36,15 +38,15 @@ ISSUE_RULES = {
     "number-truncated": ("error", "A number is longer than the solver reads",
                          "CalculiX reads reals with (f20.0) from the first 20 characters of a field: a longer "
                          "number such as 2.100000000000000000E+05 is silently read as 2.1.",
-                         ("ccx source, elastics.f (read with f20.0); formats.md 1.2",)),
+                         ("ccx source, elastics.f (read with f20.0)",)),
     "keyword-continuation": ("warning", "A keyword line ends with a comma",
                              "Other keyword dialects continue a keyword line that ends with a comma; CalculiX "
                              "does not, and reads the next line as data.",
-                             ("ccx source, readinput.c (no join logic); formats.md 1.1",)),
+                             ("ccx source, readinput.c (no join logic)",)),
     "unknown-option": ("warning", "An option value the solver replaces by its default",
                        "An unrecognised parameter value is silently replaced by the default (e.g. an unknown "
                        "*ELASTIC TYPE is read as isotropic, N= before the model name is applied to the "
-                       "default model).", ("ccx source, elastics.f / hyperelastics.f; formats.md 2.8",)),
+                       "default model).", ("ccx source, elastics.f / hyperelastics.f",)),
     "unknown-keyword": ("warning", "A keyword the solver does not know",
                         "CalculiX skips a keyword it cannot interpret, with its data lines, and only warns: a "
                         "misspelt *DENSITY leaves the material without density. The finding names the nearest "
@@ -52,16 +54,16 @@ ISSUE_RULES = {
                         ("ccx 2.20 source, calinput.f ('card image cannot be interpreted'); " + CCX,)),
     "unknown-element-type": ("error", "An element type the dialect does not define",
                              "The solver refuses unknown element types (e.g. hybrid ...H names in CalculiX).",
-                             ("ccx source, elements.f; formats.md 3",)),
+                             ("ccx source, elements.f",)),
     "empty-field": ("warning", "An empty field is read as zero",
                     "An empty field between commas is read as 0 by the solver; where it is a material "
                     "constant (e.g. '210000.,,' gives nu = 0) that is rarely intended.",
-                    ("ccx source, splitline.f; formats.md 1.1",)),
+                    ("ccx source, splitline.f",)),
     "value-not-finite": ("error", "A value is not a finite number",
                          "NaN, infinity or an overflowing exponent (1e400) cannot be a material constant.", ()),
     "too-many-fields": ("error", "A data line has more fields than the solver reads",
                         "CalculiX accepts at most 16 comma-separated entries on a line.",
-                        ("ccx source, splitline.f; formats.md 1.2",)),
+                        ("ccx source, splitline.f",)),
     "data-without-keyword": ("warning", "Data lines before any keyword",
                              "Lines that are neither comments nor keywords appear before the first keyword "
                              "(or after an unknown one); the solver ignores or misreads them.", ()),

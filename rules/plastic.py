@@ -1,4 +1,4 @@
-"""plastic/*: sanity of hardening tables (physics.md 4; formats.md 2.4 *PLASTIC, 5.3 MATS1/TABLES1).
+"""plastic/*: sanity of hardening tables (CalculiX User's Manual *PLASTIC; Nastran MATS1/TABLES1).
 
 Each temperature group of a table (consecutive rows with the same temperature: the normal layout
 of a hardening table) is one curve. Keyword ``*PLASTIC`` rows are (Mises stress, equivalent
@@ -20,9 +20,9 @@ from linter.physics import plastic as P
 from linter.registry import rule
 from ._text import short
 
-CCX_PL = "CalculiX User's Manual *PLASTIC (formats.md 2.4)"
-NAS_PL = "Nastran bulk data MATS1, TABLES1 (formats.md 5.3)"
-PHYS = "physics.md 4, Plasticity input sanity"
+CCX_PL = "CalculiX User's Manual *PLASTIC"
+NAS_PL = "Nastran bulk data MATS1, TABLES1"
+PHYS = "hardening-table conventions: true stress against plastic strain (CalculiX User's Manual *PLASTIC)"
 TABLE_FORMS = ("ISOTROPIC", "KINEMATIC", "COMBINED", "")
 MAX_LISTED = 5
 
@@ -280,7 +280,7 @@ def initial_yield(c: Curve) -> tuple[float, int]:
       rationale="The first stress of a hardening curve is the initial yield stress; zero or less means the "
                 "material flows at once. Together with *CREEP a zero yield surface is how CalculiX models "
                 "pure creep, so that case is a warning.",
-      references=(CCX_PL, "CalculiX User's Manual *CREEP (formats.md 2.4)", PHYS),
+      references=(CCX_PL, "CalculiX User's Manual *CREEP", PHYS),
       data="temperature, line, yield_stress, with_creep")
 def zero_yield(model, ctx):
     for mat, blk in plastic_blocks(model):
@@ -304,7 +304,7 @@ def zero_yield(model, ctx):
       title="Initial yield strain sigma_y/E is implausible for the material",
       rationale="sigma_y/E is about 1e-3 to 1e-2 for metals and up to a few percent for polymers; far "
                 "outside, the yield stress and E are probably in different units (e.g. Pa against MPa).",
-      references=(PHYS, "physics.md 5.5 handbook properties"),
+      references=(PHYS, "yield and modulus: EN 1993-1-1 Table 3.1, ASM Handbook data sheets"),
       data="temperature, line, yield_stress, E, yield_strain, material_class, band",
       thresholds=("plastic.yield_strain_metal", "plastic.yield_strain_polymer"))
 def yield_vs_modulus(model, ctx):

@@ -7,7 +7,7 @@ from linter.registry import rule
 
 from ._text import at_t, empty_field_at, listing, num
 
-CCX_MAT = "CalculiX User's Manual, *MATERIAL (formats.md 2.1)"
+CCX_MAT = "CalculiX User's Manual, *MATERIAL"
 
 #: kind -> (column names checked for positivity, words)
 POSITIVE = {
@@ -16,8 +16,8 @@ POSITIVE = {
                      "_word": "conductivity"},
     "specific_heat": {"iso": ("c",), "_word": "specific heat"},
 }
-#: bulk cards default these fields to 0 when blank, so 0 written out means "not given" (MAT1 RHO: formats.md
-#: 5.1; MAT4 CP: from memory);
+#: bulk cards default these fields to 0 when blank, so 0 written out means "not given" (MAT1 RHO: MYSTRAN User Manual
+#: MAT1; MAT4 CP: from memory);
 #: whether the analysis needs them is the analysis/* rules' question
 BULK_ZERO_MEANS_NONE = ("density", "specific_heat")
 TABLE_KINDS = ("elastic", "expansion", "conductivity", "specific_heat", "density")
@@ -33,7 +33,7 @@ TABLE_KINDS = ("elastic", "expansion", "conductivity", "specific_heat", "density
                 "parse/empty-field. On bulk cards an empty field means the property is not given, and RHO or CP = 0 "
                 "(the card's default) means no mass or heat capacity: only negative values are reported there. code_aster "
                 "command files write RHO = 0 the same way (ELAS accepts it) for analyses without mass.",
-      references=(CCX_MAT, "physics.md 5.5 (handbook properties)"),
+      references=(CCX_MAT, "handbook properties: EN 1993-1-1 3.2.6, EN 1992-1-1 Table 3.1, ASM Handbook, CRC Handbook"),
       data="kind; rows: list of {T, line, values: {column: value}} of the rows concerned")
 def nonpositive(model, ctx):
     for mat in model.all_materials():
@@ -103,7 +103,7 @@ def temperature_order(model, ctx):
         for blk in mat.blocks:
             if blk.kind not in TABLE_KINDS or len(blk.rows) < 2:
                 continue
-            # ccx reads a missing temperature as 0 (formats.md 2.1)
+            # ccx reads a missing temperature as 0 (ccx source, the material readers)
             temps = [(0.0 if calculix else math.nan) if r.temperature is None else float(r.temperature)
                      for r in blk.rows]
             probs = _order_problems(temps)

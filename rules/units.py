@@ -8,7 +8,8 @@ from dataclasses import replace
 
 from linter.registry import rule
 
-REFS = ("physics.md 5.1-5.5 (dimensions, systems, invariants, handbook values)",
+REFS = ("dimensional analysis (standard); handbook values: EN 1993-1-1 3.2.6, EN 1992-1-1 Table 3.1, ASM Handbook, "
+        "CRC Handbook",
         "CalculiX CrunchiX User's Manual, section Units")
 
 
@@ -71,7 +72,7 @@ def implausible(model, ctx):
       thresholds=("units.min_confidence",), title="Gravity magnitude that does not fit the unit system",
       rationale="Standard gravity is 9.80665 m/s^2: 9806.65 in mm/s^2, 9.80665e-3 in mm/ms^2, 386.09 in "
                 "in/s^2. 9.81 in a millimetre-tonne-second model is a thousand times too weak.",
-      references=REFS + ("physics.md 5.3 (gravity fixes L/T^2)",),
+      references=REFS + ("standard gravity 9.80665 m/s^2 (ISO 80000-3; CGPM 1901) fixes L/T^2",),
       data="value; fits: systems it fits; model: reference system; expected: value to write")
 def gravity(model, ctx):
     for p in _problems(model, "gravity", ctx):

@@ -10,7 +10,7 @@ elastic block (all blocks, in deck order; the solver uses the last one)::
 Density: with a tabulated density and a tabulated elastic block, the density of the
 same temperature is used (linear interpolation between rows, constant beyond the
 ends); otherwise the single density. The density block already holds the mass density
-the solver uses (bulk parsers store RHO times ``PARAM,WTMASS``, physics.md 1.5), so no
+the solver uses (bulk parsers store RHO times ``PARAM,WTMASS``, Nastran PARAM WTMASS definition), so no
 factor is applied here.
 """
 from __future__ import annotations

@@ -3,7 +3,7 @@
 Pure, vectorised functions (no I/O). Every builder takes an array of rows of shape ``(n, k)`` in
 the layout of ``linter.model.BLOCK_LAYOUTS`` for its form and returns ``(n, m, m)`` matrices.
 
-Voigt orders (physics.md 2.1):
+Voigt orders (CalculiX User's Manual *ELASTIC TYPE=ANISO; Nastran MAT9):
 
 * keyword ``*ELASTIC, TYPE=ORTHO`` / ``ENGINEERING CONSTANTS`` / ``ANISO`` (CalculiX): order
   (11, 22, 33, 12, 13, 23); ``ANISO`` lists the upper triangle **column by column**;
@@ -76,14 +76,14 @@ def stiffness_mat2(values, transverse_shear: bool = False) -> np.ndarray:
     """Bulk MAT2 (G11 G12 G13 G22 G23 G33, order x, y, xy): the 3x3 matrix.
 
     As a shell's transverse-shear material only the 2x2 part [[G11, G12], [G12, G22]] counts
-    (formats.md 5.2: G13, G23, G33 are ignored there).
+    (MYSTRAN User Manual MAT2: G13, G23, G33 are ignored there).
     """
     g = _sym_from_packed(_rows(values, 6), _MAT2_IDX, 3)
     return g[:, :2, :2] if transverse_shear else g
 
 
 def compliance_engineering(values) -> np.ndarray:
-    """Keyword ENGINEERING CONSTANTS E1 E2 E3 nu12 nu13 nu23 G12 G13 G23 -> S (n,6,6), physics.md 2.2.
+    """Keyword ENGINEERING CONSTANTS E1 E2 E3 nu12 nu13 nu23 G12 G13 G23 -> S (n,6,6) (Jones 1999, 2.2).
 
     nu_ij is -eps_j/eps_i under sigma_i (nu12 the major ratio); S is symmetric by construction.
     """
@@ -133,7 +133,7 @@ def engineering_from_stiffness(c: np.ndarray) -> dict[str, np.ndarray]:
 
 
 def engineering_bounds(values) -> dict[str, np.ndarray]:
-    """Lempriere's conditions (physics.md 2.3) on engineering constants, per row.
+    """Lempriere's conditions on engineering constants, per row.
 
     ``moduli`` (n,6) = E1 E2 E3 G12 G13 G23 (must be > 0); ``pairs`` (n,3) = nu_ij^2 * E_j/E_i for
     ij = 12, 13, 23 (must be < 1, i.e. |nu_ij| < sqrt(E_i/E_j)); ``determinant`` =
@@ -148,7 +148,7 @@ def engineering_bounds(values) -> dict[str, np.ndarray]:
 
 
 def lamina_q(values) -> np.ndarray:
-    """MAT8 reduced (plane-stress) stiffness Q (n,3,3), order (1, 2, 12) (physics.md 2.3)."""
+    """MAT8 reduced (plane-stress) stiffness Q (n,3,3), order (1, 2, 12) (Jones 1999, plane-stress stiffness)."""
     e1, e2, n12, g12 = _rows(values, 6).T[:4]
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         n21 = n12 * e2 / e1

@@ -1,8 +1,8 @@
-"""Wave speeds and the explicit stable time increment (physics.md 6.3).
+"""Wave speeds and the explicit stable time increment (Belytschko, Liu & Moran 2000 ch. 6).
 
 c0 = sqrt(E/rho) (bar), cd = sqrt((lambda + 2 mu)/rho) = sqrt(M/rho) (dilatational), cs = sqrt(mu/rho)
 (shear); hyperelastic: cd = sqrt((K0 + 4 mu0/3)/rho). The element-by-element bound of the central
-difference method is dt ~ L_e / cd (Belytschko, Liu & Moran 2000 ch. 6, as cited in physics.md 6.3).
+difference method is dt ~ L_e / cd (Belytschko, Liu & Moran 2000 ch. 6).
 """
 from __future__ import annotations
 
@@ -12,7 +12,7 @@ from linter.physics.elastic import from_E_nu
 
 
 def shear_modulus(E, nu):
-    """G = E / (2 (1 + nu)) (physics.md 1.1, via ``linter.physics.elastic``)."""
+    """G = E / (2 (1 + nu)) (standard moduli conversion, via ``linter.physics.elastic``)."""
     return from_E_nu(E, nu)["G"]
 
 

@@ -4,7 +4,8 @@ Pure functions without I/O; every argument may be a scalar or a numpy array
 (broadcast). Singular inputs (nu = 0.5, where K and lambda are infinite) give
 ``inf``/``nan`` without warnings; callers decide how to store them.
 
-Relations: the standard conversion table of isotropic elastic moduli (physics.md 1.1):
+Relations: the standard conversion table of isotropic elastic moduli (Mavko, Mukerji & Dvorkin,
+The Rock Physics Handbook, 2003):
 
 * from (E, nu): G = E/(2(1+nu)), K = E/(3(1-2nu)), lambda = E nu/((1+nu)(1-2nu)), M = lambda + 2G
 * from (E, G):  nu = E/(2G) - 1, K = EG/(3(3G-E)), lambda = G(E-2G)/(3G-E), M = G(4G-E)/(3G-E)
@@ -67,7 +68,7 @@ def from_G_nu(G, nu) -> dict[str, np.ndarray]:
 
 
 def k_over_g(nu) -> np.ndarray:
-    """K/G = 2(1+nu)/(3(1-2nu)) (physics.md 1.2); infinite at nu = 0.5."""
+    """K/G = 2(1+nu)/(3(1-2nu)) (standard moduli conversion); infinite at nu = 0.5."""
     nu = _arr(nu)
     with np.errstate(divide="ignore", invalid="ignore"):
         return 2.0 * (1.0 + nu) / (3.0 * (1.0 - 2.0 * nu))

@@ -3,7 +3,7 @@
 Pure functions, no I/O. A model is built from one data row in the layout of
 ``linter.model.BLOCK_LAYOUTS`` with :func:`from_row`; it gives the deviatoric energy W and its
 derivatives for the incompressible stability and stress checks (``hyper_stability``), and the
-initial shear and bulk moduli (physics.md 3.1, 3.2; formats.md 2.5, 2.6).
+initial shear and bulk moduli (CalculiX User's Manual *HYPERELASTIC, *HYPERFOAM; Ogden 1972).
 """
 from __future__ import annotations
 
@@ -13,10 +13,10 @@ from typing import Optional, Union
 
 import numpy as np
 
-#: below this |D_i| CalculiX replaces D_i by (0.1/mu0)^i (ccx hyperelastics.f, formats.md 2.5)
+#: below this |D_i| CalculiX replaces D_i by (0.1/mu0)^i (ccx hyperelastics.f)
 CCX_D_ZERO = 1e-10
 
-# Arruda-Boyce series: W = mu * sum_k c_k (I1^k - 3^k) / lambda_m^(2k-2) (physics.md 3.1)
+# Arruda-Boyce series: W = mu * sum_k c_k (I1^k - 3^k) / lambda_m^(2k-2) (CalculiX User's Manual *HYPERELASTIC)
 _AB = (0.5, 1 / 20, 11 / 1050, 19 / 7000, 519 / 673750)
 
 
@@ -67,7 +67,7 @@ class ArrudaBoyce:
 
     @property
     def mu0(self) -> float:
-        # 2 dW/dI1 at I1 = 3 (physics.md 3.1 column mu0)
+        # 2 dW/dI1 at I1 = 3 (the initial shear modulus)
         return 2.0 * sum(a * (k + 1) * 3.0 ** k for k, a in enumerate(self._coef()))
 
     def energy_invariants(self, i1, i2):
@@ -179,7 +179,7 @@ def from_row(form: str, values) -> Optional[HyperRow]:
 
 
 def nu_from_ratio(k_over_mu):
-    """Poisson ratio from K/mu (physics.md 3.2): (3r - 2)/(6r + 2); 0.5 for r = inf."""
+    """Poisson ratio from K/mu (the isotropic relation): (3r - 2)/(6r + 2); 0.5 for r = inf."""
     r = np.asarray(k_over_mu, dtype=float)
     with np.errstate(invalid="ignore", divide="ignore"):
         nu = np.where(np.isinf(r) & (r > 0), 0.5, (3 * r - 2) / (6 * r + 2))
@@ -187,7 +187,7 @@ def nu_from_ratio(k_over_mu):
 
 
 def foam_beta(nu):
-    """beta_i = nu_i / (1 - 2 nu_i) (formats.md 2.6); inf at nu_i = 0.5."""
+    """beta_i = nu_i / (1 - 2 nu_i) (CalculiX User's Manual *HYPERFOAM); inf at nu_i = 0.5."""
     nu = np.asarray(nu, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
         return np.where(nu == 0.5, np.inf, nu / (1 - 2 * nu))
@@ -201,7 +201,7 @@ def _pow(x: float, n: int) -> float:
 
 
 def initial_moduli(row: HyperRow, ccx_default: bool = True) -> dict:
-    """mu0, K0, nu0, K0/mu0 of a row (physics.md 3.1-3.2; formats.md 2.5-2.6).
+    """mu0, K0, nu0, K0/mu0 of a row (CalculiX User's Manual *HYPERELASTIC, *HYPERFOAM).
 
     K0 = 2/D1. When a |D_i| is below 1e-10: with ``ccx_default`` the solver's replacement
     D_i = (0.1/mu0)^i is used (``D_defaulted`` True, K0 = 20 mu0); otherwise the row is treated as

@@ -1,11 +1,12 @@
 """Stress and Drucker (Hill) stability of incompressible isotropic hyperelastic models.
 
-Criterion (physics.md 3.4): with g(e1, e2) = W(exp e1, exp e2, exp(-e1-e2)), the material is stable at
+Criterion (Hill/Drucker stability, arXiv:2511.13792):
+with g(e1, e2) = W(exp e1, exp e2, exp(-e1-e2)), the material is stable at
 a state when the 2x2 tangent H = Hessian of g is positive definite (H11 > 0 and det H > 0). The
 nominal-stress slope dP/dlambda > 0 is only necessary and is not used for the verdict.
 
 The loading direction is 1 and the stress-free direction is 3 in every mode, so the stress in the
-loading direction is sigma_1 = dg/de1 and the nominal stress P = sigma_1 / lambda_1 (physics.md 3.3):
+loading direction is sigma_1 = dg/de1 and the nominal stress P = sigma_1 / lambda_1 (standard):
 
 * uniaxial tension/compression ``UT``: (l, l^-1/2, l^-1/2)
 * equibiaxial tension ``ET``: (l, l, l^-2)
@@ -35,7 +36,7 @@ def mode_stretches(mode: str, lam):
 
 
 def split_tangent(model: Model, l1, l2):
-    """g = (dg/de1, dg/de2) and H written as diag(d1, d2) + off * [[1, 1], [1, 1]] (physics.md 3.4).
+    """g = (dg/de1, dg/de2) and H written as diag(d1, d2) + off * [[1, 1], [1, 1]].
 
     The split keeps det H = d1 d2 + off (d1 + d2) accurate when the stretch of the free direction
     dominates (off >> d1, d2), where h11 h22 - h12^2 would cancel catastrophically.
@@ -67,14 +68,14 @@ def split_tangent(model: Model, l1, l2):
 
 
 def gradient_hessian(model: Model, l1, l2):
-    """(dg/de1, dg/de2) and H (..., 2, 2) at stretches (l1, l2, 1/(l1 l2)), analytic (physics.md 3.4)."""
+    """(dg/de1, dg/de2) and H (..., 2, 2) at stretches (l1, l2, 1/(l1 l2)), analytic."""
     g, d1, d2, off = split_tangent(model, l1, l2)
     h = np.stack([np.stack([d1 + off, off], -1), np.stack([off, d2 + off], -1)], -2)
     return g, h
 
 
 def nominal_stress(model: Model, mode: str, lam):
-    """Nominal (first Piola) stress in the loading direction, incompressible (physics.md 3.3)."""
+    """Nominal (first Piola) stress in the loading direction, incompressible (standard continuum mechanics)."""
     l1, l2, _ = mode_stretches(mode, lam)
     g, _h = gradient_hessian(model, l1, l2)
     return g[..., 0] / np.asarray(lam, dtype=float)
@@ -115,7 +116,7 @@ def _bisect(model, mode, lo, hi, lo_state, iters=34):
 
 
 def sufficient_stable(model: Model) -> bool:
-    """Sufficient analytic conditions for stability under every deformation (physics.md 3.4)."""
+    """Sufficient analytic conditions for stability under every deformation (arXiv:2511.13792)."""
     if isinstance(model, Ogden):
         return all(m > 0 and a != 0 for m, a in zip(model.mu, model.alpha))
     if isinstance(model, ArrudaBoyce):

@@ -1,6 +1,6 @@
-"""Pure helpers for hardening tables (physics.md 4): conversions and the checks behind ``plastic/*``.
+"""Pure helpers for hardening tables: conversions and the checks behind ``plastic/*``.
 
-All functions take numpy arrays (or scalars) and do no I/O. Formulas (standard; physics.md 4):
+All functions take numpy arrays (or scalars) and do no I/O. Formulas (standard continuum mechanics):
 
 * engineering -> true (valid up to necking): sigma_t = sigma_e (1 + eps_e), eps_t = ln(1 + eps_e);
 * plastic strain from total strain: eps_p = eps - sigma / E;
@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 
-#: a largest strain above this in a hardening table suggests percent instead of a fraction (physics.md 4)
+#: a largest strain above this in a hardening table suggests percent instead of a fraction (common practice)
 PERCENT_STRAIN_LIMIT = 2.0
 
 def eng_to_true(stress_eng, strain_eng):

@@ -3,7 +3,7 @@
 A consistent unit system is fixed by four base units (length, mass, time, temperature
 interval), each expressed in SI; force-based systems (lbf) derive their mass unit as
 F * T^2 / L. A quantity of dimension L^a M^b T^c Theta^d written in a system is converted
-to SI by multiplying with ``L^a * M^b * T^c * Theta^d`` (physics.md 5.1, after the
+to SI by multiplying with ``L^a * M^b * T^c * Theta^d`` (dimensional analysis, after the
 CalculiX manual's "Units" section). Nothing here is typed in per quantity: every factor
 follows from :data:`DIMENSIONS`.
 
@@ -107,7 +107,7 @@ def bar_speed(modulus, density):
 
 
 def p_wave_modulus(e, nu):
-    """M = E (1 - nu) / ((1 + nu)(1 - 2 nu)) (physics.md 1.1); nan for nu >= 0.5 or nu <= -1."""
+    """M = E (1 - nu) / ((1 + nu)(1 - 2 nu)) (standard moduli conversion); nan for nu >= 0.5 or nu <= -1."""
     e, nu = np.asarray(e, float), np.asarray(nu, float)
     ok = (nu < 0.5) & (nu > -1.0)
     with np.errstate(invalid="ignore", divide="ignore"):

@@ -40,7 +40,8 @@ def _spans(spans) -> str:
         elif style == "b":
             out.append(f"**{md(t)}**")
         elif style == "code":
-            out.append(f"`{visible(t).replace('`', '')}`")
+            v = visible(t)
+            out.append(f"`{v}`" if "`" not in v else md(v))
         else:
             out.append(md(t))
     return "".join(out)

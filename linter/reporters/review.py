@@ -13,8 +13,9 @@ import shlex
 from typing import Any
 
 from . import as_options, run_exit_code, severity_counts, visible
-from .review_doc import (Box, H, Section, Table, findings_section, model_section, para, rule_texts,
-                         split_suppressed, summary_section, unchecked_section, unit_confident, usage_section)
+from .review_doc import (Box, H, Section, Table, model_section, para, split_suppressed, summary_section,
+                         unit_confident, usage_section)
+from .review_findings import findings_section, rule_texts, unchecked_section
 
 
 def _band_nu(cfg: Any) -> float:

@@ -12,11 +12,10 @@ from __future__ import annotations
 
 import math
 import re
-from collections import defaultdict
 from dataclasses import dataclass, field
 from typing import Any, Optional
 
-from . import line_of, severity_counts, sorted_findings, visible
+from . import line_of, severity_counts, visible
 
 SEVERITY_HEAD = {"error": "Errors", "warning": "Warnings", "note": "Notes"}
 #: what the number formatters (and unit labels) produce: a table cell that holds a number, nothing else
@@ -117,6 +116,16 @@ def derived(value: Any) -> str:
     return f"{f:.6g}"
 
 
+#: names longer than this are cut in headings and tables (the material's section shows the whole name once)
+NAME_LIMIT = 64
+
+
+def short(value: Any, limit: int = NAME_LIMIT) -> str:
+    """A deck name for headings and table cells: visible, and cut with its length noted when very long."""
+    v = visible(value)
+    return v if len(v) <= limit else f"{v[:limit - 16]}... ({len(v)} characters)"
+
+
 def where(path: Any, line: Any) -> str:
     p = visible(path) if path else "(no file)"
     n = line_of(line)
@@ -142,7 +151,7 @@ def suppression_of(f) -> Optional[dict]:
         def get(k, default=None):
             return getattr(sup, k, default)
     return {"reason": get("reason") or get("justification") or "", "path": get("path"),
-            "line": get("line"), "rules": get("rules") or get("ids") or ()}
+            "line": get("line"), "rules": get("rules") or get("ids") or (), "scope": get("scope") or ""}
 
 
 def split_suppressed(findings) -> tuple[list, list]:
@@ -150,33 +159,6 @@ def split_suppressed(findings) -> tuple[list, list]:
     for f in findings:
         (silenced if suppression_of(f) else active).append(f)
     return active, silenced
-
-
-# --------------------------------------------------------------------------- rule texts
-
-
-def rule_texts() -> dict[str, tuple[str, str]]:
-    """rule id -> (rationale, remedy); remedies are data (``linter/data/remedies.yaml``)."""
-    import os
-
-    from .. import registry
-    from ..safe_yaml import load_package_yaml
-
-    try:
-        rules = registry.load()
-    except Exception:  # the audit still renders without the rule texts
-        rules = {}
-    try:
-        here = os.path.join(os.path.dirname(os.path.dirname(__file__)), "data", "remedies.yaml")
-        with open(here, encoding="utf-8") as fh:
-            remedies = load_package_yaml(fh.read()) or {}
-    except Exception:
-        remedies = {}
-    out = {}
-    for rid, r in rules.items():
-        out[rid] = (r.rationale or "", str(remedies.get(rid) or remedies.get(r.family if hasattr(r, "family")
-                                                                            else rid.split("/")[0]) or ""))
-    return out
 
 
 # --------------------------------------------------------------------------- verdict and summary
@@ -188,6 +170,9 @@ def verdict(fr) -> str:
     parts = [f"{c['error']} error(s)", f"{c['warning']} warning(s)", f"{c['note']} note(s)"]
     if silenced:
         parts.append(f"{len(silenced)} suppressed")
+    in_baseline = sum(1 for f in active if getattr(f, "baseline", False))
+    if in_baseline:
+        parts.append(f"{in_baseline} in the baseline (listed, not counted)")
     state = "incomplete: some input could not be checked" if fr.incomplete else "complete"
     return ", ".join(parts) + f"; check {state}"
 
@@ -218,6 +203,18 @@ def summary_section(result, anchors: list[tuple[str, str, list[tuple[str, str]]]
 
 
 # --------------------------------------------------------------------------- the model
+
+
+def _evidence(key: Any, item: Any, keyed: bool) -> str:
+    """One piece of unit evidence as text, whatever its shape (a quantity name, or a mapping of facts)."""
+    if isinstance(item, dict):
+        body = ", ".join(f"{visible(k)} {given(v) if isinstance(v, (int, float)) else visible(v)}"
+                         for k, v in item.items() if not str(k).startswith("_"))
+    elif isinstance(item, (list, tuple)):
+        body = ", ".join(given(v) if isinstance(v, (int, float)) else visible(v) for v in item)
+    else:
+        body = given(item) if isinstance(item, (int, float)) and not isinstance(item, bool) else visible(item)
+    return f"{visible(key)}: {body}" if keyed else body
 
 
 def unit_confident(us: Any, floor: float) -> bool:
@@ -261,7 +258,12 @@ def _unit_paragraphs(us: Any, sure: bool = True) -> list:
     if us.get("equivalent"):
         facts.append("systems that read these values alike: " + ", ".join(visible(x) for x in us["equivalent"]))
     if us.get("evidence"):
-        facts.append("evidence: quantities " + ", ".join(visible(x) for x in us["evidence"]))
+        ev = us["evidence"]
+        items = ev.items() if isinstance(ev, dict) else enumerate(ev if isinstance(ev, (list, tuple)) else [ev])
+        if isinstance(ev, (list, tuple)) and all(isinstance(x, str) for x in ev):
+            facts.append("evidence: the values of " + ", ".join(visible(x) for x in ev))
+        else:
+            facts.append("evidence: " + "; ".join(_evidence(k, x, isinstance(ev, dict)) for k, x in items))
     if us.get("temperatures"):
         facts.append("temperature evidence: " + ", ".join(visible(x) for x in us["temperatures"]))
     if us.get("absolute_zero") is not None:
@@ -324,7 +326,7 @@ def usage_section(fr, anchor: str) -> Section:
         rows = []
         for m in fr.materials or ():
             used = m.get("used_by") if isinstance(m, dict) else None
-            rows.append([visible(m.get("name")), ", ".join(f"{visible(k)} x {v}" for k, v in (used or {}).items())
+            rows.append([short(m.get("name")), ", ".join(f"{visible(k)} x {v}" for k, v in (used or {}).items())
                          or "no elements"])
         sec.children.append(Table(["Material", "Element types and counts"], rows))
         return sec
@@ -333,7 +335,7 @@ def usage_section(fr, anchor: str) -> Section:
     for u in usage:
         for s in u.get("sections") or ():
             counts = ", ".join(f"{visible(k)} x {v}" for k, v in (s.get("counts") or {}).items()) or "no elements"
-            row = [visible(u.get("material")), f"{visible(s.get('card'))} at {where(s.get('path'), s.get('line'))}",
+            row = [short(u.get("material")), f"{visible(s.get('card'))} at {where(s.get('path'), s.get('line'))}",
                    visible(s.get("elset")), visible(s.get("role")), counts]
             key = tuple(row)
             if key in seen:  # the same material in several layers of one section: one row, counted
@@ -345,71 +347,6 @@ def usage_section(fr, anchor: str) -> Section:
     if rows:
         sec.children.append(Table(["Material", "Section", "Element set", "Role", "Element types and counts"], rows))
     unused = (fr.details or {}).get("unused_materials") or []
-    sec.children.append(para("Materials no section uses: " + (", ".join(visible(n) for n in unused)
+    sec.children.append(para("Materials no section uses: " + (", ".join(short(n) for n in unused)
                                                               if unused else "none.")))
-    return sec
-
-
-# --------------------------------------------------------------------------- findings
-
-
-def findings_section(findings, anchor: str, title: str, texts: dict) -> Section:
-    sec = Section(anchor, [H(3, title, anchor)])
-    active, silenced = split_suppressed(sorted_findings(findings))
-    if not active:
-        sec.children.append(para("No rule reported anything."))
-    for sev in ("error", "warning", "note", None):
-        of_sev = [f for f in active if (f.severity == sev if sev else f.severity not in SEVERITY_HEAD)]
-        if not of_sev:
-            continue
-        sec.children.append(H(4, f"{SEVERITY_HEAD.get(sev, 'Other')} ({len(of_sev)})"))
-        by_mat: dict[str, list] = defaultdict(list)
-        for f in of_sev:
-            by_mat["" if f.material is None else str(f.material)].append(f)
-        for mat in sorted(by_mat, key=lambda k: (k == "", k)):
-            sec.children.append(para(("b", f"Material {visible(mat)}" if mat else "Not tied to one material")))
-            for f in by_mat[mat]:
-                rationale, remedy = texts.get(f.rule, ("", ""))
-                sec.children.append(P([("code", visible(f.rule)), text(f" at {where(f.path, f.line)}: "),
-                                       text(f.message)], cls=f"finding {sev or 'other'}"))
-                extra = []
-                if rationale:
-                    extra.append([("b", "Why:"), text(" " + rationale)])
-                if remedy:
-                    extra.append([("b", "Remedy:"), text(" " + remedy)])
-                if extra:
-                    sec.children.append(Bullets(extra))
-    sec.children.append(H(4, f"Suppressed findings ({len(silenced)})"))
-    if not silenced:
-        sec.children.append(para("No finding was silenced by an inline suppression."))
-    else:
-        rows = []
-        for f in silenced:
-            s = suppression_of(f) or {}
-            rows.append([visible(f.severity), visible(f.rule), where(f.path, f.line), visible(f.material or ""),
-                         visible(f.message), visible(s.get("reason") or "(no reason given)"),
-                         where(s.get("path"), s.get("line")) if s.get("path") else ""])
-        sec.children.append(Table(["Severity", "Rule", "At", "Material", "Finding", "Reason given",
-                                   "Suppression at"], rows, cls="suppressed"))
-    return sec
-
-
-def unchecked_section(fr, anchor: str) -> Section:
-    sec = Section(anchor, [H(3, "Not checked", anchor)])
-    sec.children.append(para(f"Dialect assumed: {visible(fr.dialect or 'unknown')} (format "
-                             f"{visible(fr.format or 'unknown')}); element types and option defaults are read "
-                             "as this solver reads them."))
-    groups: dict[tuple, list] = defaultdict(list)
-    for u in fr.unchecked or ():
-        if isinstance(u, dict):
-            groups[(str(u.get("what", "")), str(u.get("reason") or ""))].append(u)
-    if not groups:
-        sec.children.append(para("Nothing was read and left unchecked."))
-        return sec
-    rows = []
-    for (what, reason), items in sorted(groups.items()):
-        places = ", ".join(where(u.get("path"), u.get("line")) for u in items[:5])
-        more = f" and {len(items) - 5} more" if len(items) > 5 else ""
-        rows.append([visible(what), visible(reason), str(len(items)), places + more])
-    sec.children.append(Table(["What", "Why not checked", "Count", "Where"], rows))
     return sec

@@ -11,7 +11,7 @@ from typing import Any, Optional
 
 from . import visible
 from . import review_figures as FIG
-from .review_doc import Figure, H, Section, Table, derived, given, para, where
+from .review_doc import Figure, H, Section, Table, derived, given, para, short, where
 
 #: readable headers of derived quantities: key -> (header, quantity)
 ELASTIC_COLUMNS = (
@@ -276,7 +276,7 @@ def locking_materials(fr) -> set:
 
 def material_section(m: dict, fr, anchor: str, units: Units, figures: bool) -> Section:
     name = m.get("name")
-    sec = Section(anchor, [H(3, f"Material {visible(name)}", anchor)], cls="material")
+    sec = Section(anchor, [H(3, f"Material {short(name)}", anchor)], cls="material")
     used = m.get("used_by") or {}
     use_text = ", ".join(f"{visible(k)} x {v}" for k, v in used.items()) if used else "no elements (unused)"
     mus = (m.get("derived") or {}).get("unit_system") or {}
@@ -284,7 +284,8 @@ def material_section(m: dict, fr, anchor: str, units: Units, figures: bool) -> S
     if mus.get("name") and mus.get("name") != units.system:
         own = (f" Taken alone, its values fit {visible(mus['name'])} best (confidence "
                f"{derived(mus.get('confidence'))}), not the deck's {visible(units.system or 'undetermined')} system.")
-    sec.children.append(para(f"Defined at {where(m.get('path'), m.get('line'))}; used by {use_text}." + own))
+    full = [("", "Full name: "), ("code", visible(name)), ("", ". ")] if short(name) != visible(name) else []
+    sec.children.append(para(*full, f"Defined at {where(m.get('path'), m.get('line'))}; used by {use_text}." + own))
     if not m.get("blocks"):
         sec.children.append(para("No property was read for this material."))
     for b in m.get("blocks") or ():
@@ -325,7 +326,7 @@ def admissibility_figure(fr, units: Units, band_nu: float) -> tuple[Optional[Fig
             n = len(points) + 1
             on_lock = m.get("name") in locking
             points.append({"n": n, "E": E * factor if factor else E, "nu": nu, "kind": kind, "locking": on_lock})
-            key.append([str(n), visible(m.get("name")), _temp(T), "initial values (hyperelastic)" if kind == "hyper"
+            key.append([str(n), short(m.get("name")), _temp(T), "initial values (hyperelastic)" if kind == "hyper"
                         else "isotropic elastic", units.cell(E, "stress"), given(nu) if kind == "elastic"
                         else derived(nu), "yes" if on_lock else "no"])
     if not points:

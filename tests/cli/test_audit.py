@@ -200,6 +200,10 @@ def test_hostile_names_are_escaped_and_figures_carry_no_deck_string(tmp_path):
     assert "<script" not in doc.lower()
     assert "&lt;script&gt;alert(1)&lt;/script&gt;" in doc
     assert "\u202e" not in doc and "\\u202e" in doc
+    # a very long name is cut in headings and tables (with its length), and shown whole once
+    assert f"... ({len(HOSTILE) + 5} characters)</h3>" in doc                # the RTL mark shows as \u202e
+    assert "<code>&lt;script&gt;alert(1)" in doc
+    assert not re.search(r"<(h[1-4]|td|strong)[^>]*>[^<]*X{300}", doc)
     assert re.search(r"\son[a-z]+=", doc) is None          # no event handler attribute anywhere
     assert re.search(r"(src|href)=\"(https?:|//|data:text)", doc) is None   # nothing loaded from outside
     for svg in re.findall(r"<svg.*?</svg>", doc, re.S):
@@ -272,7 +276,7 @@ def test_details_only_for_the_audit():
 
 def test_every_rule_has_a_remedy():
     from linter import registry
-    from linter.reporters.review_doc import rule_texts
+    from linter.reporters.review_findings import rule_texts
 
     texts = rule_texts()
     missing = [r.id for r in registry.all_rules() if not texts.get(r.id, ("", ""))[1]]
@@ -300,3 +304,64 @@ def test_corpus_audit_renders(corpus_dir, fmt):
     for fr in result.files:
         assert not any(f.rule.startswith("internal/") for f in fr.findings), fr.path
         assert fr.path in doc or fr.path.replace("&", "&amp;") in doc
+
+
+def test_json_with_the_audit_facts_fits_the_schema(samples_result):
+    import json
+    import os
+
+    jsonschema = pytest.importorskip("jsonschema")
+    schema_path = os.path.join(os.path.dirname(get("json").__code__.co_filename), "..", "data", "report.schema.json")
+    with open(schema_path, encoding="utf-8") as fh:
+        schema = json.load(fh)
+    buf = io.StringIO()
+    get("json")(samples_result, buf, None)
+    doc = json.loads(buf.getvalue())
+    jsonschema.validate(doc, schema)
+    assert all(f["details"]["files"][0]["sha256"] for f in doc["files"])
+    assert doc["files"][0]["materials"][0]["blocks"][0]["rows"]
+
+
+SUPPRESSED_DECK = """*NODE
+1,0,0,0
+2,1,0,0
+3,1,1,0
+4,0,1,0
+5,0,0,1
+6,1,0,1
+7,1,1,1
+8,0,1,1
+*ELEMENT, TYPE=C3D8I, ELSET=E1
+1,1,2,3,4,5,6,7,8
+** deckwarden accept elastic/poisson-negative because auxetic foam, test report R-17
+*MATERIAL, NAME=FOAM
+*ELASTIC
+35.0, -0.2
+*DENSITY
+5e-11
+*SOLID SECTION, ELSET=E1, MATERIAL=FOAM
+*STEP
+*STATIC
+*END STEP
+"""
+
+
+def test_a_comment_in_the_deck_shows_as_a_suppressed_finding(tmp_path, capsys):
+    from linter.cli import main
+
+    deck = tmp_path / "foam.inp"
+    deck.write_text(SUPPRESSED_DECK, encoding="utf-8")
+    out = tmp_path / "r.html"
+    main(["audit", str(deck), "-o", str(out)])
+    doc = out.read_text(encoding="utf-8")
+    root = tree_of(doc)
+    sup = next(e for e in root.iter() if _local(e.tag) == "table" and e.get("class") == "suppressed")
+    cells = " ".join(sup.itertext())
+    assert "elastic/poisson-negative" in cells and "auxetic foam, test report R-17" in cells
+    assert f"{deck}:12 (next)" in cells
+    assert "1 suppressed" in doc
+    # a reviewer may ignore every comment: the finding is then an ordinary note
+    main(["audit", str(deck), "--no-inline-suppressions", "-o", str(out)])
+    doc = out.read_text(encoding="utf-8")
+    assert "Suppressed findings (0)" in doc and "0 error(s), 0 warning(s), 1 note(s)" in doc
+    assert "configuration: inline_suppressions" in doc and "false" in doc

@@ -77,3 +77,13 @@ def test_jobs_2_gives_the_same_report(folder, capsys):
     assert code1 == code2 == 0
     assert [f["summary"] for f in one["files"]] == [f["summary"] for f in two["files"]]
     assert len(two["files"]) == 2
+
+
+def test_unreadable_mesh_given_with_materials(folder, capsys):
+    (folder / "broken.msh").write_text("$MeshFormat\n4.1 0 8\n$EndMeshFormat\n$Nodes\nnot numbers\n")
+    code, doc = run_json(["check", "broken.msh", "--materials", "pv40_seal_housing.yaml"], capsys)
+    assert code == 2     # the check is incomplete
+    rules = [f["rule"] for f in doc["findings"]]
+    assert "parse/include-unreadable" in rules
+    # nothing that only follows from the unread mesh is reported again
+    assert not [r for r in rules if r.startswith("model/")], rules

@@ -257,3 +257,43 @@ def test_sample_study_reports_the_locking_pad():
     assert [(f.rule, f.material, f.line) for f in rep.findings] == [("element/volumetric-locking", "EPDM", 21)]
     assert rep.summary["element_types"] == {"3D/HEXA8": 24}          # 16 cast + 8 pad cells; base faces left out
     assert sorted(m["name"] for m in rep.materials) == ["EPDM", "IRON"]
+
+
+@pytest.mark.parametrize("behaviour, found", [("", True), (", ECRO_LINE=_F(D_SIGM_EPSI=2000., SY=355.)", False)])
+def test_plasticity_relation_needs_hardening(tmp_path, behaviour, found):
+    # STAT_NON_LINE COMPORTEMENT RELATION='VMIS_ISOT_LINE' reads ECRO_LINE (U4.51.11, from memory)
+    study(tmp_path, HEAD + f"""\
+S = DEFI_MATERIAU(ELAS=_F(E=210000., NU=0.3){behaviour})
+CM = AFFE_MATERIAU(MAILLAGE=MA, AFFE=_F(TOUT='OUI', MATER=S))
+R = STAT_NON_LINE(MODELE=MO, CHAM_MATER=CM, COMPORTEMENT=_F(RELATION='VMIS_ISOT_LINE', GROUP_MA='BLOC'))
+""")
+    res = check_paths([str(tmp_path / "s.export")], Config())
+    hits = [f for f in res.files[0].findings if f.rule == "analysis/missing-hardening"]
+    assert bool(hits) is found
+    if found:
+        assert hits[0].material == "S" and "VMIS_ISOT_LINE" in hits[0].message
+
+
+def test_med_mesh_groups_through_meshio(tmp_path):
+    # LIRE_MAILLAGE FORMAT='MED' (the default format of the command, code_aster/Cata/Commands/lire_maillage.py);
+    # the MED file is written and read back by meshio (reference library), groups as families of cell tags
+    pytest.importorskip("h5py")
+    import meshio
+    import numpy as np
+
+    pts = np.array([[0, 0, 0], [1, 0, 0], [1, 1, 0], [0, 1, 0], [0, 0, 1], [1, 0, 1], [1, 1, 1], [0, 1, 1],
+                    [2, 0, 0], [2, 1, 0], [2, 0, 1], [2, 1, 1]], float)
+    m = meshio.Mesh(pts, [("hexahedron", np.array([[0, 1, 2, 3, 4, 5, 6, 7], [1, 8, 9, 2, 5, 10, 11, 6]]))],
+                    cell_data={"cell_tags": [np.array([-1, -2])]})
+    m.cell_tags = {-1: ["STEEL"], -2: ["SEAL"]}
+    meshio.write(tmp_path / "s.med", m, file_format="med")
+    model = study(tmp_path, """\
+MA = LIRE_MAILLAGE(FORMAT='MED')
+MO = AFFE_MODELE(MAILLAGE=MA, AFFE=_F(TOUT='OUI', PHENOMENE='MECANIQUE', MODELISATION='3D'))
+S = DEFI_MATERIAU(ELAS=_F(E=210000., NU=0.3))
+R = DEFI_MATERIAU(ELAS=_F(E=6., NU=0.4995))
+CM = AFFE_MATERIAU(MAILLAGE=MA, AFFE=(_F(GROUP_MA='STEEL', MATER=S), _F(GROUP_MA='SEAL', MATER=R)))
+""", mail=None, export="F comm s.comm D 1\nF mmed s.med D 20\n")
+    assert [(b.type, b.count) for b in model.element_blocks] == [("3D/HEXA8", 1), ("3D/HEXA8", 1)]
+    assert sorted(s.elset_name for s in model.sections) == ["SEAL", "STEEL"]
+    assert model.geometry.node_count == 12

@@ -102,3 +102,27 @@ def test_corpus_decks_read_the_same_with_small_run_blocks(corpus_dir, monkeypatc
     for path in files:
         same(read(path, "normal", monkeypatch), read(path, "cards", monkeypatch))
         same(read(path, "normal", monkeypatch), read(path, "small-blocks", monkeypatch))
+
+
+def test_coordinate_system_on_grids_of_fixed_field_runs(write_deck, monkeypatch):
+    # CORD1R on three GRIDs inside a small-field run block that the box sample does not cover: they are
+    # looked up in the block (CORD1R by three points: origin, a point on z, a point in the x-z plane; here a
+    # pure translation by (0, 0, 1000))
+    from linter.parsers import sampling
+
+    monkeypatch.setattr(sampling, "EXACT_NODES_LIMIT", 100)
+    monkeypatch.setattr(sampling, "sample_size", lambda n: 1)
+    coords, conn = G.mesh(30, 20, 12)
+    coords[-3:] = [[0.0, 0.0, 1000.0], [0.0, 0.0, 1001.0], [1.0, 0.0, 1000.0]]
+    fh = io.StringIO()
+    fh.write("SOL 101\nCEND\nBEGIN BULK\n")
+    L.bulk_mesh(fh, coords, conn, np.ones(len(conn), dtype=int), "small")
+    n = len(coords)
+    fh.write(f"CORD1R  5       {n - 2:<8d}{n - 1:<8d}{n:<8d}\n")
+    fh.write(f"GRID    {n + 1:<8d}5       1.      2.      3.\n")
+    fh.write("PSOLID,1,1\nMAT1,1,210000.,,0.3,7.85e-9\nENDDATA\n")
+    m = B.parse(str(write_deck("c.bdf", fh.getvalue())), ParseOptions())
+    assert not m.geometry.exact
+    assert m.geometry.bbox_max[2] == pytest.approx(1003.0)     # the CP 5 node, moved by the system
+    gid, xyz = m.geometry.nodes.get()
+    np.testing.assert_allclose(xyz[gid == n + 1][0], [1.0, 2.0, 1003.0])

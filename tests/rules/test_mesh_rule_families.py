@@ -148,3 +148,17 @@ def test_declared_units_of_the_material_file(mesh_dir):
     assert report.unit_system["name"] == "m-kg-s" and report.unit_system["declared"]
     # a declared SI system makes the mm-tonne-s values implausible
     assert any(f.rule.startswith("units/") and f.severity in ("error", "warning") for f in report.findings)
+
+
+def test_suppression_comment_in_the_material_file(mesh_dir, monkeypatch):
+    from linter import suppressions
+
+    scanned = []
+    real = suppressions.scan_file
+    monkeypatch.setattr(suppressions, "scan_file", lambda path, prefixes: scanned.append(path) or real(path, prefixes))
+    text = (HEAD + "materials:\n" + STEEL + "  # deckwarden accept elastic/poisson-out-of-range because test data\n"
+            "  OTHER:\n    elastic: {E: 1000, nu: 0.52}\n" + REGIONS)
+    report, _ = run_case(mesh_dir, "accepted.yaml", text)
+    (f,) = [f for f in report.findings if f.rule == "elastic/poisson-out-of-range"]
+    assert f.suppression is not None and f.suppression["reason"] == "test data"
+    assert scanned and all(p.endswith(".yaml") for p in scanned)   # the mesh is data: never scanned

@@ -3,7 +3,7 @@ material, or which gravity value, does not fit it, and in which system it would 
 
 A material that the reference system does not explain (misfit above ``material_tol``) may be read as:
 a. its density, which fits no class as written, divided by g -> a weight density (the bulk-deck RHO
-   without PARAM,WTMASS; physics.md 1.5, 5.4); a warning unless the system is declared;
+   without PARAM,WTMASS; Nastran PARAM WTMASS definition); a warning unless the system is declared;
 b. a whole material in another system ("material pasted in Pa");
 c. one or more quantity groups (moduli, yield, density, conductivity, specific heat, expansion) in
    another system, the rest staying in the reference.
@@ -25,8 +25,8 @@ import numpy as np
 from ...model import Loc
 from ...physics import units as U
 from .evidence import GROUPS, QUANTITY_DIMENSION, WORDS
-from .infer import (DERIVED, Inference, MaterialScore, _slip_bad, _subsets, class_misfit, equivalent, si_values,
-                    weight_density_penalty)
+from .infer import (DERIVED, Inference, MaterialScore, class_misfit, derived_quantities, equivalent, group_subsets,
+                    si_values, slip_bad, weight_density_penalty)
 
 SI_UNIT = {"E": "Pa", "K": "Pa", "yield": "Pa", "rho": "kg/m^3", "k": "W/(m K)", "c": "J/(kg K)",
            "alpha": "1/K", "c0": "m/s", "cd": "m/s", "a": "m^2/s", "rhoc": "J/(m^3 K)"}
@@ -127,9 +127,9 @@ def _split(inf: Inference, ms: MaterialScore, loose_moduli: bool = False) -> Opt
     groups = [g for g in GROUPS if any(q in ev.values and QUANTITY_DIMENSION[q] for q in GROUPS[g])]
     # only a quantity that fits no class at all when read in the reference system can be the slipped one
     si = si_values(ev, data)
-    bad = {q: bool(v[ref]) for q, v in _slip_bad(ev, data).items()}
+    bad = {q: bool(v[ref]) for q, v in slip_bad(ev, data).items()}
     best = None
-    for subset in _subsets(groups):
+    for subset in group_subsets(groups):
         if len(subset) == len(groups):
             continue
         qs = [q for g in subset for q in GROUPS[g] if q in ev.values and QUANTITY_DIMENSION[q]]
@@ -195,9 +195,7 @@ def _implausible(inf: Inference, ms: MaterialScore, c: int, ref: int) -> list[Pr
     data, ev = inf.data, ms.ev
     qtol = float(data.scoring["quantity_tol"])
     si = si_values(ev, data)
-    from .infer import _derived
-
-    si.update(_derived(si))
+    si.update(derived_quantities(si))
     fit = np.all([~np.isnan(data.lo[q]) for q in ev.values], axis=0)
     if fit.any() and not fit[c]:   # judge against a class that has a band for every quantity given
         c = int(np.flatnonzero(fit)[np.argmin(ms.per_class[fit, ref])])
@@ -286,7 +284,7 @@ def diagnose(inf: Inference, floor: float = 0.0) -> list[Problem]:
 def _weight_density(inf: Inference, ms: MaterialScore) -> Optional[tuple[float, Problem]]:
     """The material fits the reference once its density is divided by g: RHO is a weight density."""
     data, ref, ev = inf.data, inf.ref, ms.ev
-    if "rho" not in ev.values or not _slip_bad(ev, data)["rho"][ref]:
+    if "rho" not in ev.values or not slip_bad(ev, data)["rho"][ref]:
         return None      # only a density that fits no class as written
     g = float(data.model["gravity"]) / data.systems[ref].scale("acceleration")
     trial = replace(ev, values={**ev.values, "rho": ev.values["rho"] / g})

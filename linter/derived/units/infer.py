@@ -129,7 +129,7 @@ def si_values(ev: MaterialEvidence, data: UnitData, moved: dict[str, int] | None
     return out
 
 
-def _derived(si: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
+def derived_quantities(si: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
     out = {}
     if "E" in si and "rho" in si:
         out["c0"] = U.bar_speed(si["E"], si["rho"])
@@ -148,7 +148,7 @@ def quantity_terms(ev: MaterialEvidence, si: dict[str, np.ndarray], data: UnitDa
     cap, unused = float(sc["quantity_cap"]), float(sc["unused_weight"])
     terms = {}
     allq = dict(si)
-    allq.update(_derived(si))
+    allq.update(derived_quantities(si))
     for q, x in allq.items():
         lo, hi = data.lo[q][:, None], data.hi[q][:, None]
         if q == "nu":
@@ -220,13 +220,13 @@ def score_material(ev: MaterialEvidence, data: UnitData) -> MaterialScore:
         # a group other than the moduli (the moduli anchor the system) when that explains it fully
         # (misfit <= material_tol) and the slipped values are far outside every band; cost slip_penalty
         pen = float(data.scoring["slip_penalty"])
-        bad = _slip_bad(ev, data)
+        bad = slip_bad(ev, data)
         moduli_may_slip = "E" in bad
         # the moduli anchor the system, unless they fit no class at all as written (psi typed into a Pa
         # model): then they may be the slipped group too (only a value far outside every band moves)
         groups = [g for g in GROUPS if (g != "moduli" or moduli_may_slip) and any(q in ev.values for q in GROUPS[g])]
         best = np.full_like(mis, np.inf)
-        for subset in _subsets(groups):
+        for subset in group_subsets(groups):
             qs = [q for g in subset for q in GROUPS[g] if q in ev.values]
             ok = np.all([np.any([bad[q] for q in GROUPS[g] if q in bad], axis=0) for g in subset], axis=0)
             for alt in set.intersection(*(set(data.slip_sources[g]) for g in subset)):
@@ -255,7 +255,7 @@ def weight_density_penalty(ev: MaterialEvidence, data: UnitData) -> float:
     return float(sc["weight_density_penalty_bulk"] if bulk_plain else sc["weight_density_penalty"])
 
 
-def _slip_bad(ev: MaterialEvidence, data: UnitData) -> dict[str, np.ndarray]:
+def slip_bad(ev: MaterialEvidence, data: UnitData) -> dict[str, np.ndarray]:
     """q -> (S,): the value of q read in system s lies ``slip_min_decades`` outside every class that has a
     band for every quantity given."""
     qtol = float(data.scoring["slip_min_decades"])
@@ -270,7 +270,8 @@ def _slip_bad(ev: MaterialEvidence, data: UnitData) -> dict[str, np.ndarray]:
                       axis=0) for q in si if q != "nu"}
 
 
-def _subsets(groups):
+def group_subsets(groups):
+    """Every non-empty combination of ``groups``, smallest first (the quantity groups a slip may move)."""
     for r in range(1, len(groups) + 1):
         yield from itertools.combinations(groups, r)
 

@@ -88,6 +88,8 @@ class Mesh:
     _index: Optional[tuple[np.ndarray, np.ndarray]] = None
     _keys: Optional[np.ndarray] = None
     _data: object = None
+    #: GROUP_MA given as index arrays (MED meshes), consulted before the sections of a native mesh
+    group_index: dict = field(default_factory=dict)
     _line_cache: tuple = (0, 1)
 
     def line_at(self, offset: int) -> int:
@@ -105,6 +107,8 @@ class Mesh:
 
     def group_cells(self, name: str) -> Optional[np.ndarray]:
         """Global indices of the cells of GROUP_MA ``name``, sorted (None when the mesh has no such group)."""
+        if name in self.group_index:
+            return self.group_index[name]
         parts = self.groups.get(name)
         if parts is None:
             return None
@@ -144,6 +148,8 @@ class Mesh:
 
     def cells_named(self, cell_names: list[str]) -> Optional[np.ndarray]:
         """Global indices of the cells named (None when one of them is not in the mesh)."""
+        if not any(c.end > c.start for c in self.cells):
+            return None          # cells without names (MED)
         raw = " ".join(cell_names).upper().encode("latin-1", "replace")
         wanted = _names(raw, 0, len(raw), 1, 0)
         keys, order = self._cell_index()

@@ -143,8 +143,16 @@ def _study(model: DeckModel, csrc, comm_display: str, units: dict, options) -> N
             model.includes.append(Include(f"unit {unit}", None, Loc(comm_display, line), "missing"))
             return None
         real, shown, _eline, kind = entry
+        if _lfs_pointer(real):
+            model.issues.append(Issue("include-unreadable", f"mesh {shown} is a Git LFS pointer file, not the mesh "
+                                      "itself (the large-file object was not fetched)", Loc(comm_display, line),
+                                      data={"include": shown}))
+            model.includes.append(Include(shown, real, Loc(comm_display, line), "unreadable"))
+            return None
         if fmt is None:   # LIRE_MAILLAGE FORMAT defaults to MED; a native mesh on the unit is read as one
             fmt = "ASTER" if kind == "mail" else "MED"
+        if fmt == "MED":
+            return _med(model, real, shown, Loc(comm_display, line), options, loaded, unit)
         if fmt != "ASTER":
             model.unchecked.append(Unchecked("mesh", Loc(comm_display, line),
                                              f"{shown}: {fmt} meshes are not read; elements and groups not checked"))
@@ -168,6 +176,38 @@ def _study(model: DeckModel, csrc, comm_display: str, units: dict, options) -> N
         return loaded[unit]
 
     StudyBuilder(model, prog, comm_display, mesh_for_unit).run()
+
+
+def _lfs_pointer(path: str) -> bool:
+    try:
+        with open(path, "rb") as fh:
+            return fh.read(64).startswith(b"version https://git-lfs")
+    except OSError:
+        return False
+
+
+def _med(model: DeckModel, real: str, shown: str, loc: Loc, options, loaded: dict, unit: int):
+    """A MED mesh through meshio (the ``mesh`` extra); a mesh that cannot be read is reported, not guessed."""
+    from .med import MeshReadError, read_med
+
+    if not os.path.exists(real):
+        model.issues.append(Issue("missing-include", f"mesh {shown}: file not found", loc, data={"include": shown}))
+        model.includes.append(Include(shown, real, loc, "missing"))
+        return None
+    try:
+        mesh = read_med(real, shown, options.max_file_size)
+    except MeshReadError as exc:
+        model.issues.append(Issue("include-unreadable", f"MED mesh {shown}: {exc.message}", loc,
+                                  data={"include": shown}))
+        model.includes.append(Include(shown, real, loc, "unreadable"))
+        return None
+    model.includes.append(Include(shown, real, loc))
+    model.files.append(shown)
+    for mi in mesh.issues:
+        model.issues.append(Issue(mi.code, mi.message, Loc(shown, mi.line)))
+    _geometry(model, mesh)
+    loaded[unit] = MeshUse("", mesh)
+    return loaded[unit]
 
 
 def _geometry(model: DeckModel, mesh) -> None:

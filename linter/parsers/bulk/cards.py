@@ -1,6 +1,6 @@
 """Bulk cards read one by one (materials, properties, masses, loads) mapped into the neutral model.
 
-Field layouts: formats.md section 5 (MAT1 blank-field rules 5.1; MAT2/MAT8/MAT9 5.2;
+Field layouts: NASTRAN-95 User's Manual (BULK.TXT) and MYSTRAN User Manual (MAT1 blank-field rules; MAT2/MAT8/MAT9;
 MATS1/TABLES1/MATT1 5.3; MAT4/MAT5 5.4; PSOLID 5.5; PSHELL 5.6; PCOMP/PCOMPG/PBAR/PBEAM/PROD 5.7).
 A :class:`Card` holds the logical fields of one entry: ``card.f[n - 2]`` is field ``n``
 (field 2 is the first data field; continuation lines go on at 10, 11, ...).

@@ -1,7 +1,8 @@
 """Executive and case control of a bulk deck (SOL, SUBCASE, TEMP/LOAD/METHOD selections) and
 the steps and loads built from them (coordinate systems: ``coords``).
 
-SOL numbers and names: formats.md 5.9 (MYSTRAN, NASTRAN-95 rigid formats, later dialects).
+SOL numbers and names: MYSTRAN User Manual (solution sequences), NASTRAN-95 User's Manual (rigid formats),
+later dialects.
 """
 from __future__ import annotations
 

@@ -3,7 +3,8 @@
 Scalar helpers (``real``, ``integer``, ``split_line``) serve the few cards read one by
 one (materials, properties, loads); the ``vec_*`` helpers read whole columns of many
 cards of one name at once with numpy (GRID and element cards), from a byte buffer and
-arrays of field start/end offsets. Facts: formats.md 4.2 (field formats) and 4.5 (numbers).
+arrays of field start/end offsets. Facts: NASTRAN-95 User's Manual 2.4.1 (field formats, numbers);
+MYSTRAN source FFIELD.f90.
 """
 from __future__ import annotations
 

@@ -3,7 +3,8 @@
 The fixed-field counterpart of ``runs``: a run block (``lines.carve``, ~1 MB of whole
 lines, no comma, ``$``, tab or carriage return) holds entries of one card name whose head line
 starts with the name in columns 1-8 (``NAME`` for small field, ``NAME*`` for large field) and whose
-continuation lines start with ``+``, ``*`` or a blank (formats.md 4.2, 4.3). A small-field line has
+continuation lines start with ``+``, ``*`` or a blank (NASTRAN-95 User's Manual 2.4.1; MYSTRAN User Manual,
+Bulk Data format). A small-field line has
 eight 8-column data fields (columns 9-72), a large-field line (a ``NAME*`` head or a continuation
 starting with ``*``) four 16-column fields (columns 9-72); columns 73-80 (continuation id) are not
 read. The data fields of an entry are those of its lines in order, as the card-by-card reader

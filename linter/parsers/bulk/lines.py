@@ -3,8 +3,8 @@
 Everything here is numpy (no Python object per line). ``carve`` first takes runs of plain
 GRID/element lines out of the bulk section a block at a time (C-speed byte searches and
 1 MB numpy passes), so that the line table only covers the other lines. Facts:
-formats.md 4.2 (name in columns 1-8, ``*`` for large field), 4.3 (continuations start
-with ``+``, ``*``, a comma or a blank first field), 4.4 (``$`` starts a comment).
+NASTRAN-95 User's Manual 2.4.1 and MYSTRAN User Manual, Bulk Data format (name in columns 1-8, ``*`` for
+large field; continuations start with ``+``, ``*``, a comma or a blank first field; ``$`` starts a comment).
 """
 from __future__ import annotations
 
@@ -177,7 +177,7 @@ def free_counts(lines: Lines, rows: np.ndarray, cn: np.ndarray) -> "np.ndarray |
 BLOCK = 1 << 20
 #: bytes given to the line table where no run fits; also the shortest run cut before an odd line
 SMALL = 1 << 16
-#: first characters of a continuation line (formats.md 4.3); a block never starts with one
+#: first characters of a continuation line (NASTRAN-95 User's Manual, continuations); a block never starts with one
 CONTINUATION = b"+*, "
 _ENDDATA = re.compile(rb"(?i)enddata")
 

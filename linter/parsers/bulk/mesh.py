@@ -2,7 +2,7 @@
 
 Element counts per (type, PID), blocks and ``PID <n>`` element sets, lazily loaded ids and
 connectivity, node count and bounding box with CP coordinate systems applied. Element
-cards and node counts: formats.md 5.8; blank PID defaults to the EID (MYSTRAN element tables).
+cards and node counts: MYSTRAN User Manual (element cards); blank PID defaults to the EID (MYSTRAN element tables).
 """
 from __future__ import annotations
 

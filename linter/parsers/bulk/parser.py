@@ -7,7 +7,8 @@ box above 50k nodes). The rest gets a line table whose lines are classified by t
 8 bytes with numpy (``lines``); its GRID and element cards are read column-wise per
 card name (``fields.vec_*``), everything else that matters (materials, properties,
 loads, parameters) card by card (``cards``); executive and case control in ``case``.
-Element ids and connectivity stay :class:`Lazy`. Syntax facts: formats.md sections 4-5.
+Element ids and connectivity stay :class:`Lazy`. Syntax facts:
+NASTRAN-95 User's Manual (BULK.TXT), MYSTRAN User Manual and source.
 
 ``DeckModel.extras`` documented keys: ``"params"`` (every PARAM as written, name -> value
 text), ``"skipped_cards"`` (card name -> count of entries read but not used).

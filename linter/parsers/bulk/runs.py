@@ -3,7 +3,7 @@
 A run block holds only free-field lines ``NAME,...`` (and ``+`` continuation lines for
 elements) with no comment, blank or empty field. Eagerly only what rules need is read:
 for elements the count per (type, PID) from the 2nd/3rd comma of each entry and its number
-of fields (formats.md 4.2, 5.8); for GRID the number of lines. Ids, connectivity and
+of fields (MYSTRAN User Manual, Bulk Data format and element cards); for GRID the number of lines. Ids, connectivity and
 coordinates are parsed again from the file bytes on demand (``Lazy`` in the model), one
 block (~1 MB) at a time, so that no full-size temporary is made.
 """

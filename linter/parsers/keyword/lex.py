@@ -1,6 +1,7 @@
 """Lexical layer of the keyword-deck parser: keyword lines, data lines, fields and numbers.
 
-Mirrors how CalculiX reads a deck (formats.md 1.1, 1.2): blanks and tabs carry no
+Mirrors how CalculiX reads a deck (CalculiX CrunchiX User's Manual, input deck format; ccx source
+getnewline.f, splitline.f): blanks and tabs carry no
 meaning, ``**`` starts a comment line, a trailing comma adds no empty field, at most
 16 fields per line, reals are read with ``(f20.0)`` from the first 20 characters.
 """

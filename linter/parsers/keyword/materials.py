@@ -1,4 +1,4 @@
-"""Material cards of keyword decks (CalculiX order of constants: formats.md 2)."""
+"""Material cards of keyword decks (order of constants: CalculiX CrunchiX User's Manual, material keywords)."""
 from __future__ import annotations
 
 from typing import Optional

@@ -72,7 +72,7 @@ def read_element(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: 
         # otherwise some line is not one element: group the lines as CalculiX does
         spans = bool(nodes) and rd.data.count(b",", start, end) not in (nlines * nodes, nlines * (nodes + 1))
     if spans:                        # elements continue on the next lines (grouped as CalculiX does)
-        count, incomplete = rows.element_count(rd.data, start, end, nodes + 1)
+        count, incomplete = rows.element_count(rd.data, start, end, nodes + 1, STREAM_PIECE)
         if incomplete:
             rd.issue("truncated", f"*ELEMENT, TYPE={etype_w}: the last element of the block has fewer than "
                      f"{nodes} nodes (CalculiX: element definition incomplete)", kw.loc.line, type=etype)

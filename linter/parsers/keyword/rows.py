@@ -1,7 +1,9 @@
 """Data lines of a keyword block read as CalculiX reads them, vectorised: one answer for every writing style.
 
 CalculiX removes every blank and tab of a line before it splits it at commas, skips blank and
-``**`` comment lines, and a trailing comma adds no field (formats.md 1.1, 1.2). An ``*ELEMENT`` line
+``**`` comment lines, and a trailing comma adds no field (CalculiX User's Manual, input deck
+format; ccx source splitline.f).
+An ``*ELEMENT`` line
 holds the element number and up to ``nodes`` node numbers; when it holds fewer, the next lines give
 the rest, each line read only up to the nodes still missing (CalculiX ``elements.f``, the loop after
 "element definition incomplete"). So ``1,2,...,16,`` + ``17,...,21`` (C3D20), ``1,...,10`` + ``11``
@@ -21,7 +23,6 @@ import numpy as np
 
 MAX_FIELDS = 16                 # CalculiX keeps at most 16 fields of a line
 PIECE = 8 << 20
-_COMMENT = re.compile(rb"(?m)^\*\*[^\n]*\n")
 _ONLY_COMMAS = re.compile(rb"(?m)^,+\n")
 
 
@@ -31,24 +32,38 @@ def compact(chunk: bytes) -> bytes:
     c = chunk.translate(None, b" \t\r")
     if not c.endswith(b"\n"):
         c += b"\n"
-    if b"*" in c and b"**" in c:                  # one-byte searches are the fast ones
-        c = _COMMENT.sub(b"", c)
-    if not _adjacent(c):                          # the usual case: nothing else to remove
-        return c
-    if c.startswith(b",") or b"\n," in c:
-        c = _ONLY_COMMAS.sub(b"", c)
-    if b",\n" in c:
-        c = c.replace(b",\n", b"\n")
-    while b"\n\n" in c:
-        c = c.replace(b"\n\n", b"\n")
-    return c[1:] if c.startswith(b"\n") else c
-
-
-def _adjacent(c: bytes) -> bool:
-    """Whether the chunk starts with a separator (comma, newline) or has two in a row (a numpy pass)."""
+    if b"*" in c:                                 # one-byte searches are the fast ones
+        c = _drop_comments(c)
     b = np.frombuffer(c, np.uint8)
-    sep = (b == 44) | (b == 10)
-    return bool(sep[:1].any()) or bool((sep[1:] & sep[:-1]).any())
+    comma, nl = b == 44, b == 10
+    lead = bool(comma[:1].any()) or bool((nl[:-1] & comma[1:]).any())      # a line starts with a comma
+    trail = bool((comma[:-1] & nl[1:]).any())                              # ... ends with one
+    empty = bool(nl[:1].any()) or bool((nl[:-1] & nl[1:]).any())         # an empty line
+    del b, comma, nl
+    if lead:
+        c = _ONLY_COMMAS.sub(b"", c)
+    if trail:
+        c = c.replace(b",\n", b"\n")
+    if empty or lead:
+        while b"\n\n" in c:
+            c = c.replace(b"\n\n", b"\n")
+        c = c[1:] if c.startswith(b"\n") else c
+    return c
+
+
+def _drop_comments(c: bytes) -> bytes:
+    """``c`` without its ``**`` lines (blanks already removed, every line ends with a newline)."""
+    b = np.frombuffer(c, np.uint8)
+    ls = np.concatenate(([0], np.flatnonzero(b[:-1] == 10) + 1))
+    star = ls[(b[ls] == 42) & (b[np.minimum(ls + 1, b.size - 1)] == 42)]
+    if star.size == 0:
+        return c
+    ends = np.searchsorted(ls, star, side="right")                 # the next line start (or the end)
+    stop = np.append(ls, b.size)[ends]
+    delta = np.zeros(b.size + 1, dtype=np.int8)       # -1 where a comment line starts, +1 after it
+    np.add.at(delta, star, -1)
+    np.add.at(delta, stop, 1)
+    return b[np.cumsum(delta[:-1], dtype=np.int8) == 0].tobytes()
 
 
 def fields_per_line(c: bytes) -> np.ndarray:

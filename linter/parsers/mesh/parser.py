@@ -45,6 +45,7 @@ def parse(path: str, options) -> DeckModel:
     # the element catalogue of this route is meshio's cell types, whatever --dialect says
     model = DeckModel(path=display, format=FORMAT, dialect=DEFAULT_DIALECT)
     model.files.append(yaml_display)
+    model.extras["commented_files"] = [yaml_display]   # the mesh is data: no suppression comments in it
     src = read_deck_bytes(yaml_path, MAX_YAML_BYTES)   # SourceError: too large, binary, unreadable
     doc = Doc(yaml_display, model)
     text = src.data.decode("utf-8" if src.encoding != "latin-1" else "latin-1")
@@ -119,6 +120,7 @@ def _mesh(doc, got: dict, given: Optional[str], yaml_path: str, options):
     if given is not None:
         loc, written, display = Loc(given, 1), given, given
         resolved = given
+        model.includes.append(Include(written, resolved, loc, "ok"))
     elif "mesh" in got:
         node = got["mesh"][1]
         loc = doc.loc(node)
