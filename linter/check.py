@@ -149,5 +149,10 @@ def check_paths(paths: list[str], config: Optional[Config] = None, jobs: Optiona
     else:
         decks = _no_deck_check(discover(paths, result, config), result, paths)
         result.files = [_check_one((p, fmt, config.for_path(p), policy, details)) for p, fmt in decks]
+    result.files.sort(key=lambda fr: fr.path)   # the same order whatever --jobs is
+    if len(result.files) > 1:
+        from .drift import material_drift   # run-level stage: materials compared across decks
+
+        material_drift(result, config)
     result.incomplete = registry.makes_incomplete(result.general) or any(f.incomplete for f in result.files)
     return result

@@ -38,7 +38,16 @@ def build_parser() -> argparse.ArgumentParser:
     c = sub.add_parser("check", help="check decks (files or folders)",
                        description="Check decks and report findings. Exit code 0: nothing at or above the "
                                    "fail level; 1: findings at or above it; 2: the check is incomplete.")
-    c.add_argument("paths", nargs="+", metavar="PATH", help="deck files or folders to walk")
+    c.add_argument("paths", nargs="*", metavar="PATH", help="deck files or folders to walk")
+    c.add_argument("--files-from", metavar="FILE|-",
+                   help="also check the paths listed in FILE, one per line ('-': standard input), e.g. one shard")
+    c.add_argument("--baseline", metavar="FILE",
+                   help="report only findings not recorded in this baseline; recorded ones are counted apart and "
+                        "entries no finding matches are reported as fixed")
+    c.add_argument("--write-baseline", metavar="FILE",
+                   help="record the current findings (not those suppressed by comments) in FILE")
+    c.add_argument("--sarif-category", metavar="NAME",
+                   help="SARIF automationDetails.id is deckwarden/NAME/ (default: derived from the paths checked)")
     c.add_argument("--format", "-f", choices=FORMATS, default="text",
                    help="report format (default: text; audit: the reviewer's audit in Markdown, or in HTML "
                         "when --output ends with .html)")
@@ -273,10 +282,22 @@ def cmd_check(args) -> int:
         raise UsageError(f"--output {args.output}: is one of the paths to check; deckwarden never writes its input")
     fmt = _report_format(args)
     audit = fmt in ("audit", "html")
-    result = check_paths(list(args.paths), cfg, jobs=cfg.jobs, details=audit)
+    from . import gate
+
+    try:
+        paths = gate.paths_of(args, cfg)
+        for extra in (args.baseline, args.write_baseline):
+            if extra and os.path.realpath(extra) in {os.path.realpath(p) for p in paths}:
+                raise gate.GateError(f"{extra}: is one of the paths to check")
+        result = check_paths(paths, cfg, jobs=cfg.jobs, details=audit)
+        srcroot = gate.after_check(result, args, paths, fmt)
+    except gate.GateError as exc:
+        raise UsageError(str(exc)) from None
     code = exit_code(result, cfg.fail_on)
     opts = reporters.ReportOptions(color=False if (args.no_color or args.output) else None,
-                                   fail_on=cfg.fail_on, exit_code=code)
+                                   fail_on=cfg.fail_on, exit_code=code, srcroot=srcroot,
+                                   automation_id=gate.automation_id(args, paths),
+                                   baseline=bool(args.baseline or args.write_baseline))
     if audit:
         import dataclasses
 

@@ -105,6 +105,8 @@ class RunResult:
     #: problems that make the run incomplete (exit code 2)
     incomplete: bool = False
     dialects: dict[str, str] = field(default_factory=dict)
+    #: baseline entries that no finding matches any more ({"path", "rule", "material", "fingerprint", "text"})
+    fixed: list[dict[str, Any]] = field(default_factory=list)
 
     @property
     def findings(self) -> list[Finding]:

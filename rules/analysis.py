@@ -34,6 +34,11 @@ def step_materials(model: DeckModel, proc) -> list[Material]:
     return mats if scope is None else [m for m in mats if m.key in set(scope)]
 
 
+def massless_by_choice(model: DeckModel, mat: Material) -> bool:
+    """code_aster writes RHO = 0 explicitly for a part meant to carry no mass (ELAS accepts it): not missing."""
+    return model.format == "aster" and any(b.rows for b in mat.find("density"))
+
+
 def volumetric_heat_capacity(mat: Material) -> bool:
     """The material gives rho*c itself (code_aster RHO_CP), so the heat capacity needs no density."""
     return any(b.form == "volumetric" and b.rows for b in mat.find("specific_heat"))
@@ -149,7 +154,7 @@ def missing_density(model, ctx):
     for need in ("mass", "transient_thermal"):
         for step, proc in _steps_needing(model, need):
             for mat in step_materials(model, proc):
-                if mat.key in reported or has_positive(mat, "density", "rho"):
+                if mat.key in reported or has_positive(mat, "density", "rho") or massless_by_choice(model, mat):
                     continue
                 if need == "transient_thermal" and volumetric_heat_capacity(mat):
                     continue

@@ -41,6 +41,12 @@ class ReportOptions:
     #: the audit's provenance: the command line as given, and the configuration used (plain data)
     command: Optional[list] = None
     config: Optional[dict] = None
+    #: the folder paths are shown relative to in SARIF (``%SRCROOT%``): the fingerprint root
+    srcroot: Optional[str] = None
+    #: SARIF ``automationDetails.id`` (one per shard: ``deckwarden/<category>/``)
+    automation_id: Optional[str] = None
+    #: a baseline was compared (SARIF ``baselineState`` of every result)
+    baseline: bool = False
 
 
 def as_options(options: Any) -> ReportOptions:

@@ -75,7 +75,8 @@ def build(result, options=None) -> dict[str, Any]:
         "findings": [_finding(f) for f in findings],
         "summary": {**counts, "total": sum(counts.values()), **state_counts(findings), "files": len(result.files),
                     "incomplete": bool(result.incomplete), "fail_on": opts.fail_on,
-                    "exit_code": run_exit_code(result, opts)},
+                    "exit_code": run_exit_code(result, opts),
+                    **({"fixed": list(result.fixed)} if getattr(result, "fixed", None) else {})},
     }
     return jsonable(doc)
 

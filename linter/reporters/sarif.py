@@ -1,7 +1,12 @@
 """SARIF 2.1.0: one run, rule metadata from the registry for every rule that appears.
 
-Relative paths stay relative URI references; a line is given only when it is known
-(>= 1). ``invocations[0].executionSuccessful`` is false when the check is incomplete.
+With a source root (``ReportOptions.srcroot``, the fingerprint root) every path under it is a URI
+relative to ``%SRCROOT%`` (``originalUriBaseIds``), so a code-scanning service maps results to its own
+checkout; other relative paths stay relative URI references, absolute ones become ``file:`` URIs. A line
+is given only when it is known (>= 1). Rules carry no ``helpUri`` (no network); results carry
+``partialFingerprints`` (``deckwardenFinding/v1``), ``suppressions`` (inSource, with the reason) and, when
+a baseline was compared, ``baselineState``. ``invocations[0].executionSuccessful`` is false when the exit
+code is 2; ``automationDetails.id`` names the run (one per shard).
 """
 from __future__ import annotations
 
@@ -13,6 +18,8 @@ from urllib.parse import quote
 from . import as_options, dump_json, line_of, run_exit_code, sorted_findings
 
 SARIF_VERSION = "2.1.0"
+SRCROOT = "SRCROOT"
+SARIF_KEY = "deckwardenFinding/v1"   # linter.fingerprint.SARIF_KEY (not imported: reporters stay light)
 LEVELS = ("error", "warning", "note")
 
 
@@ -59,7 +66,16 @@ def _descriptor(rule_id: str) -> dict[str, Any]:
     return desc
 
 
-def _result(f, index: int) -> dict[str, Any]:
+def _location(path: str, srcroot: Optional[str]) -> dict[str, Any]:
+    if srcroot:
+        ap = os.path.abspath(path)
+        root = srcroot.rstrip(os.sep) + os.sep
+        if ap.startswith(root):
+            return {"uri": uri_of(os.path.relpath(ap, srcroot)), "uriBaseId": SRCROOT}
+    return {"uri": uri_of(path)}
+
+
+def _result(f, index: int, srcroot: Optional[str] = None, baseline: bool = False) -> dict[str, Any]:
     res: dict[str, Any] = {
         "ruleId": str(f.rule),
         "ruleIndex": index,
@@ -69,7 +85,7 @@ def _result(f, index: int) -> dict[str, Any]:
                        "data": f.data if isinstance(f.data, dict) else {"value": f.data}},
     }
     if f.path:
-        phys: dict[str, Any] = {"artifactLocation": {"uri": uri_of(f.path)}}
+        phys: dict[str, Any] = {"artifactLocation": _location(f.path, srcroot)}
         line: Optional[int] = line_of(f.line)
         if line is not None:
             phys["region"] = {"startLine": line}
@@ -79,11 +95,15 @@ def _result(f, index: int) -> dict[str, Any]:
         entry: dict[str, Any] = {"kind": "inSource", "status": "accepted",
                                  "justification": str(sup.get("reason") or f"accepted for {sup.get('scope')}")}
         if sup.get("path"):
-            loc: dict[str, Any] = {"artifactLocation": {"uri": uri_of(sup["path"])}}
+            loc: dict[str, Any] = {"artifactLocation": _location(sup["path"], srcroot)}
             if line_of(sup.get("line")) is not None:
                 loc["region"] = {"startLine": line_of(sup.get("line"))}
             entry["location"] = {"physicalLocation": loc}
         res["suppressions"] = [entry]
+    if getattr(f, "fingerprint", None):
+        res["partialFingerprints"] = {SARIF_KEY: str(f.fingerprint)}
+    if baseline:
+        res["baselineState"] = "unchanged" if getattr(f, "baseline", False) else "new"
     return res
 
 
@@ -99,15 +119,22 @@ def build(result, options=None) -> dict[str, Any]:
             rule_ids.append(str(f.rule))
     index = {rid: i for i, rid in enumerate(rule_ids)}
     code = run_exit_code(result, opts)
-    run = {
+    srcroot = opts.srcroot
+    run: dict[str, Any] = {
         "tool": {"driver": {"name": "deckwarden", "version": __version__, "semanticVersion": __version__,
                             "rules": [_descriptor(rid) for rid in rule_ids]}},
-        "invocations": [{"executionSuccessful": not result.incomplete, "exitCode": code}],
-        "results": [_result(f, index[str(f.rule)]) for f in findings],
+        "automationDetails": {"id": opts.automation_id or "deckwarden/"},
+        "invocations": [{"executionSuccessful": code != 2, "exitCode": code}],
+        "results": [_result(f, index[str(f.rule)], srcroot, opts.baseline) for f in findings],
         "properties": {"caution": CAUTION,
                        "files": [{"path": fr.path, "format": fr.format, "dialect": fr.dialect,
                                   "incomplete": bool(fr.incomplete)} for fr in result.files]},
     }
+    if srcroot:
+        run["originalUriBaseIds"] = {SRCROOT: {"uri": Path(os.path.abspath(srcroot)).as_uri().rstrip("/") + "/",
+                                               "description": {"text": "the root finding paths are relative to"}}}
+    if getattr(result, "fixed", None):
+        run["properties"]["baseline_fixed"] = list(result.fixed)
     return jsonable({"version": SARIF_VERSION, "runs": [run]})
 
 

@@ -177,6 +177,10 @@ def report(result, stream, options=None) -> None:
         total.append(f"; {states['suppressed']} suppressed by comments (not counted)")
     if states["in_baseline"]:
         total.append(f"; {states['in_baseline']} in the baseline (not counted)")
+    fixed = getattr(result, "fixed", None) or ()
+    if fixed:
+        total.append(f"; {len(fixed)} baseline entr{'y' if len(fixed) == 1 else 'ies'} fixed "
+                     "(prune them with --write-baseline)")
     if result.incomplete:
         total.append("; the check is INCOMPLETE", style="bold red")
     con.print(total)

@@ -297,3 +297,32 @@ CM = AFFE_MATERIAU(MAILLAGE=MA, AFFE=(_F(GROUP_MA='STEEL', MATER=S), _F(GROUP_MA
     assert [(b.type, b.count) for b in model.element_blocks] == [("3D/HEXA8", 1), ("3D/HEXA8", 1)]
     assert sorted(s.elset_name for s in model.sections) == ["SEAL", "STEEL"]
     assert model.geometry.node_count == 12
+
+
+def test_composite_layers_and_massless_part(tmp_path):
+    # DEFI_COMPOSITE COUCHE=_F(MATER=...) gives the shell its layer materials (U4.42.03, from memory);
+    # ELAS RHO = 0 is accepted by the DEFI_MATERIAU catalogue (no val_min): a part meant to carry no mass
+    mail = HEX_MAIL.replace("HEXA8\n M1 N1 N2 N3 N4 N5 N6 N7 N8\nFINSF\n", "")
+    study(tmp_path, """\
+MA = LIRE_MAILLAGE(FORMAT='ASTER')
+MO = AFFE_MODELE(MAILLAGE=MA, AFFE=_F(GROUP_MA='BASE', PHENOMENE='MECANIQUE', MODELISATION='DKT'))
+PLY = DEFI_MATERIAU(ELAS=_F(E=70000., NU=0.33, RHO=0.))
+LAM = DEFI_COMPOSITE(COUCHE=_F(EPAIS=1., MATER=PLY, ORIENTATION=0.))
+CM = AFFE_MATERIAU(MAILLAGE=MA, AFFE=_F(GROUP_MA='BASE', MATER=LAM))
+MODES = CALC_MODES(MATR_RIGI=ASSE_MATRICE(MATR_ELEM=CALC_MATR_ELEM(MODELE=MO, CHAM_MATER=CM, OPTION='RIGI_MECA')))
+""", mail=mail)
+    res = check_paths([str(tmp_path / "s.export")], Config())
+    rules = {f.rule for f in res.files[0].findings if f.severity == "error"}
+    assert rules == set()
+    assert res.files[0].materials[0].get("used_by") == {"DKT/QUAD4": 1}
+
+
+def test_rigid_plastic_relation_needs_no_elasticity(tmp_path):
+    # NORTON_HOFF: rigid-viscoplastic limit analysis, reads ECRO_LINE SY only (from memory)
+    study(tmp_path, HEAD + """\
+CM = DEFI_MATERIAU(ECRO_LINE=_F(D_SIGM_EPSI=0., SY=10.))
+CH = AFFE_MATERIAU(MAILLAGE=MA, AFFE=_F(TOUT='OUI', MATER=CM))
+R = STAT_NON_LINE(MODELE=MO, CHAM_MATER=CH, COMPORTEMENT=_F(RELATION='NORTON_HOFF'))
+""")
+    res = check_paths([str(tmp_path / "s.export")], Config())
+    assert not [f for f in res.files[0].findings if f.severity == "error"]

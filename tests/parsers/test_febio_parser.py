@@ -239,3 +239,61 @@ def test_nonfinite_parameter_is_an_issue(tmp_path):
     mat = '<material id="1" name="Rubber" type="neo-Hookean"><E>inf</E><v>0.3</v></material>'
     m = parse_text(tmp_path, feb(mat))
     assert [i.code for i in m.issues] == ["value-not-finite"]
+
+
+def test_sample_model_is_found_and_clean():
+    from pathlib import Path
+
+    from febio_decks import check_path
+    from linter.config import Config
+    from linter.discovery import discover
+    from linter.findings import RunResult
+
+    samples = Path(__file__).resolve().parents[2] / "sample_decks"
+    found = discover([str(samples)], RunResult(), Config())
+    feb_files = [(Path(p).name, fmt) for p, fmt in found if p.endswith(".feb")]
+    assert feb_files == [("pv40_coupling_insert.feb", "febio")]
+    report = check_path(samples / "pv40_coupling_insert.feb")
+    assert report.findings == []
+    assert report.summary["elements"] == 64 and report.summary["materials"] == 3
+    # the uncoupled insert on the solver's three-field hex8, the hubs as rigid bodies
+    assert report.summary["element_types"] == {"HEX8/RIGID": 32, "HEX8/THREE-FIELD": 32}
+
+
+def test_trans_iso_mooney_rivlin_reads_the_matrix(tmp_path):
+    # FEBio User's Manual 4.0, trans iso Mooney-Rivlin: c1, c2 (matrix, as Mooney-Rivlin), c3..c5 and
+    # lam_max (fibres), k (bulk modulus)
+    mat = """<material id="1" name="Tendon" type="trans iso Mooney-Rivlin">
+\t\t\t<k>100</k><c1>1</c1><c2>0.5</c2><c3>1</c3><c4>5</c4><c5>10</c5><lam_max>1.05</lam_max>
+\t\t\t<fiber type="vector"><vector>1,0,0</vector></fiber>
+\t\t</material>"""
+    m = parse_text(tmp_path, feb(mat, domains='<SolidDomain name="Part1" mat="Tendon"/>'))
+    assert _block(m, "Tendon", "hyperelastic").rows[0].values == pytest.approx((1, 0.5, 0.02))
+    assert any("fibre" in u.what for u in m.unchecked)
+    assert m.sections[0].orientation.startswith("fiber")
+
+
+def test_veronda_westmann_initial_shear(tmp_path):
+    # FEBio User's Manual 4.0, Veronda-Westmann: W = c1 (exp(c2 (I1~ - 3)) - 1) - c1 c2/2 (I2~ - 3) + U(J);
+    # at small strain W1 = c1 c2, W2 = -c1 c2/2, so mu0 = 2 (W1 + W2) = c1 c2
+    mat = '<material id="1" name="Skin" type="Veronda-Westmann"><k>300</k><c1>0.1</c1><c2>3</c2></material>'
+    m = parse_text(tmp_path, feb(mat, domains='<SolidDomain name="Part1" mat="Skin"/>'))
+    assert _block(m, "Skin", "other", "uncoupled-bulk").rows[0].values == pytest.approx((300, 0.3))
+    assert not m.materials["Skin"].has("hyperelastic")
+
+
+def test_every_element_shape_is_in_the_catalogue():
+    from linter.catalogue import Catalogue
+    from linter.parsers.febio.mesh import NODES
+
+    cat = Catalogue.load()
+    for shape, n in NODES.items():
+        tech = cat.get(shape.upper(), "febio")
+        assert tech is not None, shape
+        assert tech.nodes == n, shape
+
+
+def test_utf16_file_is_read(tmp_path):
+    text = feb().replace('encoding="ISO-8859-1"', 'encoding="UTF-16"')
+    m = parse_text(tmp_path, "\ufeff".encode("utf-16-le") + text.encode("utf-16-le"))
+    assert not m.issues and "Rubber" in m.materials

@@ -28,7 +28,7 @@ IGNORED = ("INFO", "reuse", "MATER")
 #: unread behaviours that give a stiffness of their own (elasticity the reader does not check, discrete,
 #: joint, cable and external laws; slip systems of polycrystals, whose elasticity DEFI_COMPOR brings)
 STIFFNESS_PREFIXES = ("ELAS_", "DIS_", "JOINT_", "MFRONT", "UMAT", "CZM_", "THM_", "MONO_")
-STIFFNESS = ("CABLE", "FLUIDE", "RUPT_FRAG", "GLRC_DM", "DHRC", "KIT_DDI")
+STIFFNESS = ("CABLE", "FLUIDE", "RUPT_FRAG", "GLRC_DM", "DHRC", "KIT_DDI", "ARME")
 
 
 @dataclass
@@ -179,6 +179,21 @@ class MaterialReader:
             self._block(mat, "elastic", "engineering", rows, cols, "E_L", occ, kwname,
                         {"naming": "L,T,N = 1,2,3", "not_given": missing})
         self._extras(mat, occ, kwname, (("RHO", "density"),))
+        self._alpha_ortho(mat, occ, kwname, ("ALPHA_L", "ALPHA_T", "ALPHA_N"))
+
+    def _alpha_ortho(self, mat, occ, kwname, keys):
+        """ALPHA_L, ALPHA_T (, ALPHA_N): orthotropic expansion; the catalogue's default is 0."""
+        given = [k for k in keys if k in occ.values]
+        if not given:
+            return
+        rows = self._table(mat, occ, tuple(given), kwname)
+        if rows is not None:
+            for _t, v in rows:
+                for k in keys:
+                    v.setdefault(k, 0.0)
+            full = keys if len(keys) == 3 else (keys[0], keys[0], keys[1])   # ELAS_ISTR: L, L, N
+            rows = [(t, {"a11": v[full[0]], "a22": v[full[1]], "a33": v[full[2]]}) for t, v in rows]
+            self._block(mat, "expansion", "ortho", rows, ("a11", "a22", "a33"), given[0], occ, kwname)
 
     def _elas_istr(self, mat, occ, kwname):
         rows = self._table(mat, occ, ("E_L", "E_N", "NU_LT", "NU_LN", "G_LN"), kwname)
@@ -190,6 +205,7 @@ class MaterialReader:
             self._block(mat, "elastic", "engineering", rows, cols, "E_L", occ, kwname,
                         {"naming": "L,T,N = 1,2,3", "isotropic_plane": "LT"})
         self._extras(mat, occ, kwname, (("RHO", "density"),))
+        self._alpha_ortho(mat, occ, kwname, ("ALPHA_L", "ALPHA_N"))
 
     def _elas_hyper(self, mat, occ, kwname):
         c = {k: number(occ.get(k, 0.0)) for k in ("C10", "C01", "C20")}

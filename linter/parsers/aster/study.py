@@ -13,7 +13,7 @@ from typing import Callable, Optional
 
 import numpy as np
 
-from ...model import Issue, Load, Loc, MassSource, MaterialRef, Procedure, Section, Step, Unchecked, norm_key
+from ...model import Issue, Load, Loc, MassSource, PropertyBlock, MaterialRef, Procedure, Section, Step, Unchecked, norm_key
 from .cells import MeshUse, ModelBuilder, element_set, group_ops, names, occurrences, select
 from .commands import Program
 from .evaluate import Command, Keywords, number
@@ -32,6 +32,9 @@ ANALYSES = {"MECA_STATIQUE": "static", "STAT_NON_LINE": "static", "DYNA_NON_LINE
 MODEL_ID_SHIFT = 40
 #: material entries of one model told apart by the bits of an int64 (more: plain id sets)
 MAX_BITS = 50
+#: constitutive relations that use no elastic constants (NORTON_HOFF: rigid-viscoplastic limit analysis,
+#: from memory)
+NO_ELASTICITY = ("NORTON_HOFF",)
 MESH_COMMANDS = ("CREA_MAILLAGE", "ASSE_MAILLAGE", "MODI_MAILLAGE", "PROJ_MAILLAGE", "RAFF_XFEM")
 
 
@@ -47,6 +50,8 @@ class StudyBuilder:
         self.loads: dict[int, list[Load]] = {}     # id(AFFE_CHAR_*) -> loads
         self.builder = ModelBuilder(model)
         self._extra_ids: dict[int, list] = {}
+        #: where material axes are given (AFFE_CARA_ELEM MASSIF/COQUE ANGL_REP ...), read as applying to the model
+        self.oriented: Optional[str] = None
         self.notes: list = []
         self.next_offset = 0
 
@@ -164,7 +169,7 @@ class StudyBuilder:
                                                       f"material on cells that are not followed ({what or 'mesh not read'})"))
                 continue
             line = occ.line_of("MATER")
-            materials = []
+            materials, opaque = [], False
             for r in refs:
                 if isinstance(r, Command) and id(r) in self.mat_of:
                     key = self.mat_of[id(r)]
@@ -172,10 +177,20 @@ class StudyBuilder:
                 elif isinstance(r, Command) and r.name in NOT_MATERIAL:
                     materials.append(MaterialRef("solid", r.target or r.name, norm_key(r.target or r.name) + "?",
                                                  self.loc(line)))
+                elif isinstance(r, Command) and r.name == "DEFI_COMPOSITE":   # shell layers: their materials
+                    for layer in occurrences(r.keywords.get("COUCHE")):
+                        m = layer.get("MATER")
+                        if isinstance(m, Command) and id(m) in self.mat_of:
+                            key = self.mat_of[id(m)]
+                            materials.append(MaterialRef("ply", self.model.materials[key].name, key,
+                                                         self.loc(layer.line_of("MATER"))))
+                    opaque = True
                 else:
+                    opaque = True
                     self.model.unchecked.append(Unchecked("AFFE_MATERIAU MATER", self.loc(line),
-                                                          getattr(r, "why", "a material not read")))
-            if materials:
+                                                          getattr(r, "why", f"{getattr(r, 'name', 'a value')} is "
+                                                                  "not read as a material")))
+            if materials or opaque:   # a material not read still covers its cells (no unassigned-element finding)
                 entries.append((occ, state, idx, what, materials))
         temps = []
         for occ in occurrences(cmd.keywords.get("AFFE_VARC")):
@@ -236,7 +251,8 @@ class StudyBuilder:
                         f"material on {name}, where the models used with this field have no finite element"))
                     continue
             self.model.sections.append(Section(kind="solid", card="AFFE_MATERIAU", elset=key, elset_name=name,
-                                               materials=materials, loc=self.loc(occ.line)))
+                                               materials=materials, loc=self.loc(occ.line),
+                                               orientation=self.oriented))
 
     def _pair(self, cmd: Command) -> None:
         """Remember which models a material field is used with (MODELE= and CHAM_MATER= of one command)."""
@@ -266,6 +282,9 @@ class StudyBuilder:
                          "cara": names(occ.get("CARA")),
                          "values": [number(v) for v in (vals if isinstance(vals, tuple) else (vals,))],
                          "line": occ.line})
+        for occ in occurrences(cmd.keywords.get("MASSIF")) + occurrences(cmd.keywords.get("COQUE")):
+            if any(occ.get(k) is not None for k in ("ANGL_REP", "ANGL_EULER", "VECTEUR", "ANGL_AXE")):
+                self.oriented = f"AFFE_CARA_ELEM line {occ.line}"
         for occ in occurrences(cmd.keywords.get("DISCRET")) + occurrences(cmd.keywords.get("DISCRET_2D")):
             if isinstance(occ.get("CARA"), str) and occ.get("CARA").startswith("M_"):
                 self.model.mass_sources.append(MassSource("discrete", self.loc(occ.line_of("CARA")), None,
@@ -313,6 +332,15 @@ class StudyBuilder:
         if cham is not None and id(cham) in self.chams:
             _c, _u, entries, temps = self.chams[id(cham)]
             options["materials"] = sorted({r.key for e in entries for r in e[4]})
+            if any(r["relation"] in NO_ELASTICITY for r in rel):
+                # a rigid-plastic law (limit analysis) takes no elasticity: its materials are not without behaviour
+                for key in options["materials"]:
+                    mat = self.model.materials.get(key)
+                    if mat is not None and not mat.has("user"):
+                        mat.blocks.append(PropertyBlock("user", "unread", [], self.loc(cmd.line),
+                                                        card="NORTON_HOFF"))
+                        for blk in mat.find("plastic"):   # SY is the flow stress of the law, not a hardening
+                            blk.kind = "other"
             if step.procedures[0].needs.get("structural"):
                 step.loads.extend(temps)
         if self.model.first_step is None:

@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import math
+import re
 from typing import Optional
 
 from ...model import (DeckModel, ElementBlock, ElementSet, Issue, Lazy, Load, Loc, MaterialRef, Procedure,
@@ -59,6 +60,10 @@ class Builder:
     def run(self) -> DeckModel:
         src = read_deck_bytes(self.path, self.options.max_file_size)
         self.data = src.data
+        if src.encoding.startswith("utf-16"):
+            # the bytes were converted to UTF-8: the declaration must say so for the XML parser
+            self.data = re.sub(rb'^(\s*<\?xml[^>]*?encoding\s*=\s*)["\'][^"\']*["\']', rb'\1"UTF-8"', self.data,
+                               count=1)
         self.last_line = max(1, self.data.count(b"\n") + (0 if self.data.endswith(b"\n") else 1))
         sc = scan(self.data)
         extras = self.model.extras.setdefault("febio", {})

@@ -1,0 +1,94 @@
+"""The CI-gate steps of ``deckwarden check`` around the check itself: the paths of ``--files-from``,
+fingerprints, the baseline (compare or write), and the SARIF run id."""
+from __future__ import annotations
+
+import hashlib
+import os
+import sys
+from typing import Optional
+
+#: report formats that carry fingerprints
+FINGERPRINTED = ("json", "sarif", "markdown")
+
+
+class GateError(ValueError):
+    """A usage problem (exit code 2)."""
+
+
+def files_from(source: str) -> list[str]:
+    """The paths listed one per line in ``source`` (``-``: standard input); blank lines and ``#`` comments skipped."""
+    try:
+        if source == "-":
+            text = sys.stdin.read()
+        else:
+            with open(source, encoding="utf-8", errors="surrogateescape") as fh:
+                text = fh.read()
+    except OSError as exc:
+        raise GateError(f"--files-from {source}: cannot read the file ({exc.strerror or exc})") from None
+    out = []
+    for line in text.splitlines():
+        item = line.strip()
+        if item and not item.startswith("#"):
+            out.append(item)
+    return out
+
+
+def paths_of(args, config) -> list[str]:
+    """The command-line paths followed by those of ``--files-from`` (excluded globs left out of the list)."""
+    paths = list(args.paths)
+    if getattr(args, "files_from", None):
+        listed = files_from(args.files_from)
+        paths += [p for p in listed if not config.excluded(p)]
+        if not paths:
+            raise GateError(f"--files-from {args.files_from}: lists no path")
+    if not paths:
+        raise GateError("no path to check: give PATH arguments or --files-from FILE")
+    return paths
+
+
+def automation_id(args, paths: list[str]) -> str:
+    """``deckwarden/<category>/``: the category given, else one derived from the paths checked, so that
+    the runs of several shards differ and each upload replaces only its own earlier run."""
+    cat = getattr(args, "sarif_category", None)
+    if not cat:
+        digest = hashlib.sha256("\n".join(sorted(paths)).encode("utf-8", "surrogateescape")).hexdigest()[:12]
+        cat = f"paths-{digest}"
+    return f"deckwarden/{cat}/"
+
+
+def after_check(result, args, paths: list[str], fmt: str) -> Optional[str]:
+    """Fingerprint, compare with or write the baseline; return the fingerprint root (or None)."""
+    from . import baseline as bl
+
+    base, write = getattr(args, "baseline", None), getattr(args, "write_baseline", None)
+    if not (base or write or fmt in FINGERPRINTED):
+        return None
+    roots, texts = bl.fingerprint_run(result, paths, write or base)
+    if base:
+        try:
+            recorded = bl.read(base)
+        except bl.BaselineError as exc:
+            raise GateError(str(exc)) from None
+        result.fixed = bl.apply(result, recorded)
+    if write:
+        try:
+            n = bl.write(write, result, roots, texts)
+        except OSError as exc:
+            raise GateError(f"--write-baseline {write}: cannot write ({exc.strerror or exc})") from None
+        for f in result.findings:
+            if f.suppression is None:
+                f.baseline = True
+        result.fixed = []
+        print(f"deckwarden: wrote {n} finding(s) to the baseline {write}", file=sys.stderr)
+    return _common(roots)
+
+
+def _common(roots: list[str]) -> Optional[str]:
+    if not roots:
+        return None
+    if len(roots) == 1:
+        return roots[0]
+    try:
+        return os.path.commonpath(roots)
+    except ValueError:
+        return None
