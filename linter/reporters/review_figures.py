@@ -108,6 +108,7 @@ def admissibility_map(points: list[dict], e_label: str, band_nu: float) -> Optio
         ax.axvspan(a, b, color="#f9d6d5", zorder=0.6)
     ax.axhspan(y_out / 1.6, lo, color="#f9d6d5", zorder=0.6)
     ax.axvline(_kg_of_nu(band_nu), color="#b36b00", lw=0.8, ls="--")
+    labels: dict[tuple, list] = {}  # points at the same place share one label ("1, 2")
     for p in ok:
         E, nu = p["E"], p["nu"]
         admissible = E > 0 and -1 < nu < 0.5
@@ -120,8 +121,12 @@ def admissibility_map(points: list[dict], e_label: str, band_nu: float) -> Optio
         if p.get("locking"):
             ax.scatter([x], [y], marker="o", s=140, facecolors="none", edgecolors="#c00000", linewidths=1.2,
                        zorder=2)
+        key = (round(math.log10(x), 2), round(math.log10(y), 2))
+        labels.setdefault(key, [x, y, []])[2].append(str(p["n"]))
+    for x, y, names in labels.values():
         right = x >= x_out_hi
-        ax.annotate(str(p["n"]), (x, y), textcoords="offset points", xytext=(-6 if right else 5, 4), fontsize=8,
+        text = ", ".join(names) if len(names) <= 4 else f"{names[0]}, {names[1]} ... {names[-1]} ({len(names)})"
+        ax.annotate(text, (x, y), textcoords="offset points", xytext=(-6 if right else 5, 4), fontsize=8,
                     ha="right" if right else "left", zorder=4)
     ax.set_xlabel("K/G (log scale); red strips: nu <= -1 (left), nu >= 0.5 (right), E <= 0 (bottom)")
     ax.set_ylabel(f"E [{e_label}]")

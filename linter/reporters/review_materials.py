@@ -148,7 +148,7 @@ def _stretches(intervals) -> str:
 def hyper_table(h: dict, units: Units) -> list:
     rows = h.get("rows") or []
     head = ["T", "line"] + [units.header(hd, q) for _k, hd, q in HYPER_COLUMNS] + \
-        ["D used by the solver", "unstable stretches (UT; ET; PS)"]
+        [units.header("D used by the solver", "compliance"), "unstable stretches (UT; ET; PS)"]
     body = []
     for r in rows:
         if "mu0" not in r:

@@ -39,7 +39,7 @@ def test_no_locking_grades(cat, name):
 
 
 def test_integration_and_order_of_key_types(cat):
-    # integration schemes from CCX-UM "Element Types" (formats.md section 3)
+    # integration schemes from CCX-UM "Element Types"
     assert cat.get("C3D4").integration == "one-point-full"
     assert cat.get("C3D8").integration == "full"
     assert cat.get("C3D8R").integration == "reduced"

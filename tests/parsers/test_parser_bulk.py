@@ -35,9 +35,9 @@ def large(name: str, *fields: str, cont: str = "*C1") -> str:
 
 
 @pytest.mark.parametrize("text,value", [
-    # NASTRAN-95 User's Manual section 2.4.1.1: 7.0 = .7E1 = 0.7+1 = .70+1 = 70.-1 (formats.md 4.5)
+    # NASTRAN-95 User's Manual section 2.4.1.1: 7.0 = .7E1 = 0.7+1 = .70+1 = 70.-1
     ("7.0", 7.0), (".7E1", 7.0), ("0.7+1", 7.0), (".70+1", 7.0), ("70.-1", 7.0),
-    # compact exponents as in MYSTRAN R8FLD.f90 (formats.md 4.5)
+    # compact exponents as in MYSTRAN R8FLD.f90
     ("7.85-9", 7.85e-9), ("2.1+5", 2.1e5), ("1.+5", 1.0e5), (".3", 0.3), ("1.E3", 1000.0),
     ("1.D3", 1000.0), ("-.5-3", -0.5e-3), ("-7.85-9", -7.85e-9), ("+2.5", 2.5), ("1.5E-3", 1.5e-3),
 ])
@@ -79,7 +79,7 @@ def test_field_formats_equivalent(write_deck):
 
 
 def test_tabs_separate_fields(write_deck):
-    # MYSTRAN: a TAB separates fields like a comma (formats.md 4.2)
+    # MYSTRAN: a TAB separates fields like a comma (MYSTRAN source FFIELD.f90)
     m = parse(write_deck("t.bdf", HEAD + "MAT1\t7\t2.1+5\t\t.3\nENDDATA\n"))
     assert m.materials["7"].first("elastic").rows[0].values == (2.1e5, 0.3)
 
@@ -130,7 +130,7 @@ def test_linear_and_quadratic_by_node_count(write_deck):
     text += "CTRIA3,4,,1,2,3\nCROD,5,9,1,2\n" + "ENDDATA\n"
     m = parse(write_deck("q.bdf", text))
     got = sorted((b.type, b.count, b.elset) for b in m.element_blocks)
-    # blank PID defaults to the EID (MYSTRAN element tables, formats.md 5.8)
+    # blank PID defaults to the EID (MYSTRAN element tables)
     assert got == [("CPENTA6", 1, "PID 2"), ("CROD", 1, "PID 9"), ("CTETRA10", 1, "PID 2"),
                    ("CTETRA4", 1, "PID 2"), ("CTRIA3", 1, "PID 4")]
     assert m.element_sets["PID 2"].blocks and len(m.element_sets["PID 2"].blocks) == 3

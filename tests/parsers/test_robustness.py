@@ -276,7 +276,7 @@ def test_ten_megabyte_single_line(write_deck, fmt):
     r = run([p])
     assert r.files[0].materials, "the deck is still read"
     assert all(len(f.message) < 10_000 for f in r.findings), "messages must not quote the whole line"
-    if fmt == "keyword":     # ccx takes at most 16 entries on a line (formats.md 1.2); MYSTRAN keeps the first 10
+    if fmt == "keyword":     # ccx takes at most 16 entries on a line (ccx source splitline.f); MYSTRAN keeps the first 10
         assert hits(r, {"parse/too-many-fields", "parse/malformed-data"}, p, line), r.findings
 
 
@@ -308,7 +308,7 @@ def test_bad_numbers(write_deck, fmt, value, rules):
 def test_keyword_fortran_d_exponent(write_deck):
     need("keyword")
     # ccx reads reals with a Fortran (f20.0) edit descriptor, which takes a D exponent
-    # (Fortran 2008, 13.7.2.3.2; formats.md 1.2); checked with ccx 2.20 here: "2.1D5, 3.0d-1" gives the
+    # (Fortran 2008, 13.7.2.3.2); checked with ccx 2.20 here: "2.1D5, 3.0d-1" gives the
     # same displacements as "210000., 0.3" on a one-element tension test
     p = write_deck("dexp.inp", kw(elastic="2.1D5, 3.0d-1"))
     r = run([p])
@@ -318,7 +318,7 @@ def test_keyword_fortran_d_exponent(write_deck):
 
 def test_bulk_exponent_without_e(write_deck):
     need("bulk")
-    # "7.85-9" = 7.85e-9 and "2.1+5" = 2.1e5 (NASTRAN 95 User's Manual 2.4.1.1, as in formats.md 4.5)
+    # "7.85-9" = 7.85e-9 and "2.1+5" = 2.1e5 (NASTRAN 95 User's Manual 2.4.1.1)
     p = write_deck("exp.bdf", bulk(mat1="MAT1,1,2.1+5,,.3,7.85-9"))
     run([p])
     assert elastic_values(parsed(p, "bulk"))[:2] == pytest.approx((210000.0, 0.3))

@@ -6,7 +6,7 @@ from hypothesis import strategies as st
 
 from linter.physics import aniso as A
 
-# Ply data (GPa): Tsai & Hahn 1980 and Soden, Hinton & Kaddour 1998, as tabulated in physics.md 2.4
+# Ply data (GPa): Tsai & Hahn 1980 and Soden, Hinton & Kaddour 1998
 PLIES = {
     "T300/5208": (181.0, 10.3, 0.28, 7.17),
     "Scotchply 1002": (38.6, 8.27, 0.26, 4.14),
@@ -66,7 +66,7 @@ def test_as4_3d_stiffness_and_eigenvalues():
     b = A.engineering_bounds(AS4_3D)
     np.testing.assert_allclose(b["determinant"][0], 0.820836, rtol=1e-5)   # physics.md 2.4
     assert np.all(b["pairs"] < 1) and np.all(b["moduli"] > 0)
-    # closed-form C11 of Jones 1999 2.2 (physics.md 2.2) against the matrix inverse
+    # closed-form C11 of Jones 1999 2.2 against the matrix inverse
     e1, e2, e3, n12, n13, n23 = AS4_3D[:6]
     n21, n31, n32 = n12 * e2 / e1, n13 * e3 / e1, n23 * e3 / e2
     delta = (1 - n12 * n21 - n23 * n32 - n31 * n13 - 2 * n21 * n32 * n13) / (e1 * e2 * e3)
@@ -178,7 +178,7 @@ def test_conductivity_matrix():
        r12=st.floats(-1.5, 1.5), r13=st.floats(-1.5, 1.5), r23=st.floats(-1.5, 1.5),
        g=st.floats(0.1, 100))
 def test_bounds_agree_with_eigenvalues(e1, e2, e3, r12, r13, r23, g):
-    # Lempriere's conditions (physics.md 2.3) are equivalent to positive definiteness of S
+    # Lempriere's conditions are equivalent to positive definiteness of S
     v = [e1, e2, e3, r12 * np.sqrt(e1 / e2), r13 * np.sqrt(e1 / e3), r23 * np.sqrt(e2 / e3), g, g, g]
     b = A.engineering_bounds(v)
     det = b["determinant"][0]

@@ -10,7 +10,7 @@ from linter.physics import hyper_models as HM
 from linter.physics import hyper_stability as HS
 
 KGF_CM2_MPA = 0.0980665     # 1 kgf/cm^2 in MPa (physics.md 3.5)
-# Ogden 1972 three-term fit to Treloar's data (Ogden 1972, physics.md 3.5), converted to the D-convention
+# Ogden 1972 three-term fit to Treloar's data (Ogden 1972), converted to the D-convention
 # mu_i(D) = mu_i(paper) * alpha_i / 2
 OGDEN_ALPHA = (1.3, 5.0, -2.0)
 OGDEN_PAPER = tuple(m * KGF_CM2_MPA for m in (6.3, 0.012, -0.1))
@@ -55,7 +55,7 @@ def test_ccx_default_compressibility():
     ("yeoh", [0.5, -0.05, 0.001, 0.01, 0, 0], 1.0),
     ("ogden-2", [0.8, 1.0, -0.3, 4.0, 0.01, 0.0], 0.5),
     ("ogden-3", [*OGDEN72.mu[:1], 1.3, OGDEN72.mu[1], 5.0, OGDEN72.mu[2], -2.0, 0.01, 0, 0], 0.41433),
-    # Arruda-Boyce Treloar fit mu = 0.27, lambda_m^2 = 26.5 (from memory) -> mu0 = 0.2763 (physics.md 3.5)
+    # Arruda-Boyce Treloar fit mu = 0.27, lambda_m^2 = 26.5 (from memory) -> mu0 = 0.2763
     ("arruda-boyce", [0.27, math.sqrt(26.5), 0.01], 0.2763),
     ("hyperfoam-2", [0.3, 2.0, 0.2, -1.0, 0.1, 0.2], 0.5),
 ])

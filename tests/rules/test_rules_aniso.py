@@ -45,7 +45,7 @@ def by_rule(found, rid):
 
 
 def test_published_lamina_and_3d_sets_pass():
-    # Tsai & Hahn 1980 / Soden, Hinton & Kaddour 1998 plies (physics.md 2.4) are admissible
+    # Tsai & Hahn 1980 / Soden, Hinton & Kaddour 1998 plies are admissible
     m = model_with(block("elastic", "engineering", [AS4_3D]),
                    block("elastic", "lamina", [(181.0, 10.3, 0.28, 7.17, math.nan, math.nan)], card="MAT8"),
                    block("elastic", "aniso", [(300000, 110000, 320000, 130000, 140000, 350000, 160000, 170000,
@@ -60,7 +60,7 @@ def test_published_lamina_and_3d_sets_pass():
 
 
 def test_lamina_nu12_past_bound_is_reported_once():
-    # T300/5208 (Tsai & Hahn 1980, physics.md 2.4) with nu12 = 4.5 > sqrt(181/10.3) = 4.192
+    # T300/5208 (Tsai & Hahn 1980) with nu12 = 4.5 > sqrt(181/10.3) = 4.192
     m = model_with(block("elastic", "lamina", [(181.0, 10.3, 4.5, 7.17, math.nan, math.nan)], card="MAT8"),
                    fmt="bulk", dialect="mystran")
     found = run(m)
@@ -287,7 +287,7 @@ def test_corpus_sweep_has_no_internal_failure_in_aniso(corpus_dir):
 
 def test_end_to_end_bulk_deck(write_deck):
     pytest.importorskip("linter.parsers.bulk")
-    # invented bracket: a PCOMP of a T300/5208-like ply in MPa (Tsai & Hahn 1980, physics.md 2.4) whose nu12 is past
+    # invented bracket: a PCOMP of a T300/5208-like ply in MPa (Tsai & Hahn 1980) whose nu12 is past
     # sqrt(E1/E2), a MAT2 used as transverse shear only (G33 ignored), a MAT9 solid with a blank CORDM
     deck = write_deck("bracket.bdf", """SOL 101
 CEND

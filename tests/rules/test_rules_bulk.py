@@ -21,7 +21,7 @@ def deck(write_deck, body: str, name="d.bdf"):
 
 
 def test_inconsistent_constants(write_deck):
-    # G = E/(2(1+nu)) (NASTRAN-95 MAT1 remarks; formats.md 5.1): 2.1e5/(2*1.3) = 80769 vs G = 7.0e4 -> 15.4 %
+    # G = E/(2(1+nu)) (NASTRAN-95 MAT1 remarks): 2.1e5/(2*1.3) = 80769 vs G = 7.0e4 -> 15.4 %
     p = deck(write_deck, "PSOLID,1,1\nCHEXA,1,1,1,2,3,4,5,6,+\n+,7,8\nMAT1,1,2.1+5,7.0+4,.3\n")
     (f,) = findings(p, "elastic/inconsistent-constants")
     assert f.severity == "warning" and f.line == 15 and f.material == "1"
@@ -48,7 +48,7 @@ def test_tolerance_from_config(write_deck):
 
 
 def test_defaulted_nu_on_solid(write_deck):
-    # only E given: G = 0 and nu = 0 (NASTRAN-95 MAT1 remark 6; MYSTRAN MAT1; formats.md 5.1)
+    # only E given: G = 0 and nu = 0 (NASTRAN-95 MAT1 remark 6; MYSTRAN MAT1)
     p = deck(write_deck, "PSOLID,1,1\nCHEXA,1,1,1,2,3,4,5,6,+\n+,7,8\nMAT1,1,2.1+5\n")
     (f,) = findings(p, "elastic/defaulted-constants")
     assert f.data["given"] == ["E"] and f.data["defaulted"] == ["G", "NU"]

@@ -28,7 +28,7 @@ def test_poisson_in_range_is_not_reported(nu):
 
 
 def test_poisson_message_explains_incompressible_limit_and_ccx():
-    # CalculiX refuses nu >= 0.5 on reading (ccx source elastics.f, formats.md 6)
+    # CalculiX refuses nu >= 0.5 on reading (ccx source elastics.f)
     d = Deck()
     d.material("SEAL", elastic=[(12.0, 0.5, 20.0), (11.0, 0.45, 80.0), (10.0, 0.5, 120.0)])
     found = d.run("elastic/poisson-out-of-range")
@@ -39,7 +39,7 @@ def test_poisson_message_explains_incompressible_limit_and_ccx():
 
 
 def test_bulk_nu_half_depends_on_solid_use():
-    # NASTRAN-95 MAT1 remark 8 and MYSTRAN *ERROR 1936: nu = 0.5 is fatal in solids only (formats.md 6)
+    # NASTRAN-95 MAT1 remark 8 and MYSTRAN *ERROR 1936: nu = 0.5 is fatal in solids only
     d = Deck(fmt="bulk", dialect="mystran", path="d.bdf")
     d.material("MID 1", elastic=[(1.0e7, 0.5)])
     d.material("MID 2", elastic=[(1.0e7, 0.5)])

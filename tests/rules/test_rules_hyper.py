@@ -119,7 +119,7 @@ def test_unstable_outside_working_range_is_warning():
     assert f.severity == "error"         # equibiaxial 0.5-0.5623 lies inside the working range
     assert "uniaxial unstable at stretch 0.1-0.1977, 3.162-4" in f.message
     assert "criterion" in f.message and f.data["criterion"].startswith("Drucker/Hill")
-    # Ogden 1972 fit with the paper constants read as D-convention ("convention mix-up", physics.md 3.5):
+    # Ogden 1972 fit with the paper constants read as D-convention ("convention mix-up"):
     # loses stability only far out (UT 12.3, ET 3.98), in the scan range only ET >= 3.9838 -> warning
     found = run(model_with(hblock("ogden-3", [(0.63, 1.3, 0.0012, 5.0, -0.01, -2.0, 0.001, 0.0, 0.0)])))
     f = [x for x in found if x.rule == "hyper/unstable"][0]
@@ -138,7 +138,7 @@ def test_unstable_inside_working_range_is_error():
 
 
 def test_ogden_1972_fit_is_stable():
-    # Ogden 1972 (physics.md 3.5) in the D-convention: stable everywhere
+    # Ogden 1972 in the D-convention: stable everywhere
     mu = (0.40158, 1.3, 0.0029420, 5.0, 0.0098067, -2.0, 0.0005, 0.0, 0.0)
     m = model_with(hblock("ogden-3", [mu]))
     assert run(m) == []          # D2 = D3 = 0 are defaulted by ccx but do not change K0: not reported

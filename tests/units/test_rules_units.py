@@ -1,7 +1,7 @@
 """units/* rules: the classic unit slips are caught with the right quantity named.
 
 Reference values: steel E 210 GPa, rho 7850 kg/m^3, c_p 440 J/(kg K) (EN 1993-1-1 3.2.6,
-EN 1991-1-1 Tab. A.4, EN 1993-1-2 3.4 via physics.md 5.5); steel written in mm-tonne-s
+EN 1991-1-1 Tab. A.4, EN 1993-1-2 3.4); steel written in mm-tonne-s
 (2.1e5 MPa, 7.85e-9 t/mm^3, 4.4e8 mm^2/(s^2 K), g 9806.65 mm/s^2) from physics.md 5.2.
 """
 from __future__ import annotations
@@ -44,7 +44,7 @@ def test_density_in_si_with_moduli_in_mpa():
 
 
 def test_one_material_pasted_in_pa_into_an_mpa_model():
-    # Al 6061-T6 (68.9 GPa, 2700 kg/m^3; ASM via physics.md 5.5) pasted in SI among mm-tonne-s steels
+    # Al 6061-T6 (68.9 GPa, 2700 kg/m^3; ASM) pasted in SI among mm-tonne-s steels
     mats = [material("S1", **STEEL_MM), material("S2", **STEEL_MM, line=20),
             material("AL", E=6.89e10, nu=0.33, rho=2700.0, line=30)]
     found = run(model(*mats, steps=("frequency",)))
@@ -293,7 +293,7 @@ def test_bulk_deck_weight_density_with_wtmass(write_deck):
 
 @pytest.mark.skipif(not BULK, reason="bulk parser not available yet")
 def test_bulk_deck_modulus_in_pa_with_psi_density(write_deck):
-    # E 6.89e10 (Al 6061-T6 in Pa, ASM via physics.md 5.5) with RHO 0.1 x WTMASS 0.00259 (in-lbf-s mass
+    # E 6.89e10 (Al 6061-T6 in Pa, ASM) with RHO 0.1 x WTMASS 0.00259 (in-lbf-s mass
     # density): one material, so the moduli anchor the system and the density is named, with RHO and WTMASS
     rep = _check(write_deck("plate.bdf", PLATE.format(E="6.89E10")))
     mm = [f for f in rep.findings if f.rule == "units/mismatch"]

@@ -1,6 +1,6 @@
 """Unit-system inference on neutral models built in the test (no parser needed).
 
-Handbook values (physics.md 5.5) are written in every system with pint (external unit library)
+Handbook values are written in every system with pint (external unit library)
 and must infer that system.
 """
 from __future__ import annotations
@@ -31,13 +31,13 @@ SI = ("Pa", "kg/m**3", "W/(m*K)", "J/(kg*K)", "1/K")
 
 # Handbook rows (E, nu, rho, k, c_p, alpha) in SI:
 HANDBOOK = {
-    # structural steel: EN 1993-1-1 3.2.6, EN 1991-1-1 Tab. A.4, EN 1993-1-2 3.4 (as in physics.md 5.5)
+    # structural steel: EN 1993-1-1 3.2.6, EN 1991-1-1 Tab. A.4, EN 1993-1-2 3.4
     "steel": (210e9, 0.30, 7850, 53.3, 440, 12e-6),
-    # Al 6061-T6: ASM / Aluminum Association typical values (via physics.md 5.5)
+    # Al 6061-T6: ASM / Aluminum Association typical values
     "aluminium": (68.9e9, 0.33, 2700, 167, 896, 23.6e-6),
-    # concrete C30/37: EN 1992-1-1 Tab. 3.1 (E, nu, alpha, rho); k 1.6 and c_p 900 from memory (physics.md 5.5)
+    # concrete C30/37: EN 1992-1-1 Tab. 3.1 (E, nu, alpha, rho); k 1.6 and c_p 900 from memory
     "concrete": (33e9, 0.2, 2400, 1.6, 900, 10e-6),
-    # PA66 dry: Ashby data sheet via physics.md 5.5 (alpha 90e-6 from memory)
+    # PA66 dry: Ashby data sheet (alpha 90e-6 from memory)
     "pa66": (3.0e9, 0.4, 1130, 0.24, 1630, 90e-6),
 }
 

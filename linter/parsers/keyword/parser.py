@@ -34,14 +34,17 @@ _SPECIAL_AT_START = re.compile(rb"[ \t]*[*\n]")
 _CHUNK = 1 << 21
 
 
-def _special_lines(data: bytes) -> tuple[list[int], list[int], int]:
-    """Where the lines start that begin (after blanks) with '*' or are empty, their 1-based line numbers,
-    and the number of newlines in ``data``: the matches of ``_SPECIAL``, found with numpy in chunks
-    (a few MB of temporaries at a time) instead of a regular-expression scan."""
+def _special_lines(data: bytes) -> tuple[list[int], list[int], np.ndarray, int]:
+    """Where the lines start that begin (after blanks) with a keyword (``*`` but not ``**``), their 1-based line
+    numbers, the number of comment and blank lines before each of them (cumulative, then the total), and the
+    number of newlines in ``data``: the matches of ``_SPECIAL``, found with numpy in chunks (a few MB of
+    temporaries at a time) instead of a regular-expression scan; only keyword lines become Python ints."""
     arr = np.frombuffer(data, dtype=np.uint8)
     n = arr.size
     positions: list[int] = []
     lines: list[int] = []
+    skips: list[np.ndarray] = []
+    n_skip = 0
     seen = 0
     for lo in range(0, n, _CHUNK):
         nl = np.flatnonzero(arr[lo:lo + _CHUNK] == 10) + lo
@@ -52,6 +55,7 @@ def _special_lines(data: bytes) -> tuple[list[int], list[int], int]:
         ok = head < n
         nxt[ok] = arr[head[ok]]
         special = (nxt == 42) | ((nxt == 10) & ok)
+        first = np.where(ok, head, n - 1)               # where each line's first non-blank is
         blank = np.flatnonzero(((nxt == 32) | (nxt == 9)) & ok)
         if blank.size:                                  # skip leading blanks, then look again
             idx = head[blank] + 1
@@ -63,11 +67,18 @@ def _special_lines(data: bytes) -> tuple[list[int], list[int], int]:
                 idx[more] += 1
             c = arr[np.minimum(idx, n - 1)]
             special[blank] = ((c == 42) | (c == 10)) & (idx < n)
+            first[blank] = np.minimum(idx, n - 1)
         hit = np.flatnonzero(special)
-        positions.extend(head[hit].tolist())
-        lines.extend((hit + seen + 2).tolist())
+        f = first[hit]
+        kw = (arr[f] == 42) & ((f + 1 >= n) | (arr[np.minimum(f + 1, n - 1)] != 42)) & (head[hit] < n)
+        before = np.cumsum(~kw) - ~kw + n_skip         # comment/blank lines before each keyword line
+        positions.extend(head[hit[kw]].tolist())
+        lines.extend((hit[kw] + seen + 2).tolist())
+        skips.append(before[kw])
+        n_skip += int((~kw).sum())
         seen += nl.size
-    return positions, lines, seen
+    skipped = np.concatenate(skips + [np.array([n_skip])]) if skips else np.array([0])
+    return positions, lines, skipped, seen
 
 
 #: candidate *INCLUDE lines (a literal newline first keeps the scan fast; the file start is tried apart)
@@ -206,28 +217,24 @@ class _Parser:
         # one pass over the bytes: the start of every keyword, comment and blank line
         kws: list[tuple[int, int, int]] = []        # (start, end of line, line number)
         skipped: list[int] = [0]                     # comment/blank lines before each keyword, cumulative
-        n_skip, line, prev = 0, 1, 0
-        positions, linenos, total_nl = _special_lines(data)
+        line = 1
+        positions, linenos, before, total_nl = _special_lines(data)
+        first_is = 0                                 # the first line: a keyword (1), comment/blank (-1), data (0)
         if _SPECIAL_AT_START.match(data):
+            c2 = data[:4096].lstrip(b" \t")[:2]
+            first_is = 1 if c2[:1] == b"*" and c2 != b"**" else -1
+        if first_is == 1:
             positions.insert(0, 0)
             linenos.insert(0, 1)
-        for pos, pos_line in zip(positions, linenos):
-            c = data[pos:pos + 1]
-            if c in b" \t":
-                lead = pos
-                while data[lead:lead + 1] in (b" ", b"\t"):
-                    lead += 1
-                c2 = data[lead:lead + 2]
-            else:
-                c2 = data[pos:pos + 2]
-            if c2[:1] != b"*" or c2 == b"**":
-                n_skip += 1
-                continue
+            before = np.concatenate(([0], before))
+        if first_is == -1:
+            before = before + 1
+        for k, (pos, pos_line) in enumerate(zip(positions, linenos)):
             line = pos_line
-            prev = pos
             eol = data.find(b"\n", pos)
             kws.append((pos, len(data) if eol < 0 else eol, line))
-            skipped.append(n_skip)
+            skipped.append(int(before[k]))
+        n_skip = int(before[-1])
         first = kws[0][0] if kws else len(data)
         pre = next(rd.lines(0, first, 1), None)
         if pre is not None and self.last_kw is not None and len(self.tracker.stack) > 1:
