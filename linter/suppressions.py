@@ -25,6 +25,8 @@ from typing import Any, Iterable, Optional
 
 BLOCK = 1 << 20
 MARKERS = (b"deckwarden", b"DECKWARDEN", b"Deckwarden")
+_ONE_BYTE = (b"w", b"W")          # every marker holds one of these: a block without them has no marker
+assert all(any(c in m for c in _ONE_BYTE) for m in MARKERS)
 _HEAD = re.compile(r"^\s*deckwarden\s+accept\b(?P<rest>.*)$", re.I)
 _TAIL = re.compile(r"^(?P<ids>.*?)(?:\s+for\s+(?P<scope>.*?))?(?:\s+because\b\s*(?P<reason>.*))?\s*$", re.I | re.S)
 #: findings no comment can accept
@@ -159,7 +161,8 @@ def scan_file(path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
                         s.target = n
                     pending = []
                 pos = nl + 1
-            hits = sorted({i for m in MARKERS for i in _find_all(block, m)})
+            maybe = any(c in block for c in _ONE_BYTE)        # one-byte searches rule out most blocks
+            hits = sorted({i for m in MARKERS for i in _find_all(block, m)}) if maybe else []
             last_line_start = -1
             for at in hits:
                 start = block.rfind(b"\n", 0, at) + 1
