@@ -81,7 +81,7 @@ def line_texts(path: str, wanted: set[int]) -> dict[int, str]:
                 chunk = fh.read(BLOCK)
                 data = rest + chunk if rest else chunk
                 if not chunk:                      # the last line has no line end
-                    if data and n + 1 in wanted:
+                    if n + 1 in wanted:
                         out[n + 1] = data.decode("utf-8", "replace")
                     break
                 cut = data.rfind(b"\n") + 1

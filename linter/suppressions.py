@@ -95,10 +95,15 @@ def has_marker(path: str, prefixes: tuple[str, ...]) -> bool:
     try:
         with open(path, "rb", buffering=0) as fh:
             while True:
+                if carry >= len(buf):                      # keep room to read into
+                    view.release()
+                    buf.extend(bytes(len(buf)))
+                    view = memoryview(buf)
                 n = fh.readinto(view[carry:])
                 end = carry + n
                 last = end if not n else buf.rfind(b"\n", 0, end) + 1
                 if n and last == 0:                    # a line longer than the buffer: grow it
+                    view.release()
                     buf.extend(bytes(len(buf)))
                     view = memoryview(buf)
                     carry = end

@@ -1,6 +1,7 @@
 """The pre-commit manifest: it loads, matches every supported extension, and its entry runs on decks."""
 from __future__ import annotations
 
+import json
 import os
 import re
 import shlex
@@ -33,10 +34,10 @@ def test_manifest_loads_and_matches_every_extension(hook):
     assert not rx.search("notes.txt") and not rx.search("model.inp.bak")
 
 
-def run_entry(hook, files, cwd):
+def run_entry(hook, files, cwd, *extra):
     argv = shlex.split(hook["entry"])
     assert argv[0] == "deckwarden"
-    cmd = [sys.executable, "-m", "linter", *argv[1:], *[str(f) for f in files]]
+    cmd = [sys.executable, "-m", "linter", *argv[1:], *extra, *[str(f) for f in files]]
     return subprocess.run(cmd, capture_output=True, text=True, cwd=cwd, timeout=120)
 
 
@@ -49,7 +50,8 @@ def test_entry_runs_on_two_sample_decks(hook, tmp_path):
     # the assembly is clean and the bracket has one planted warning (sample_decks/README.md): exit code 0
     assert proc.returncode == 0, proc.stderr
     assert "0 error(s), 1 warning(s)" in proc.stdout and "in 2 deck(s)" in proc.stdout
-    assert "pv40_pump_assembly.inp" in proc.stdout and "pv40_motor_bracket.bdf" in proc.stdout
+    doc = json.loads(run_entry(hook, decks, work, "--format", "json").stdout)
+    assert sorted(Path(f["path"]).name for f in doc["files"]) == ["pv40_motor_bracket.bdf", "pv40_pump_assembly.inp"]
     assert "Traceback" not in proc.stderr
 
 
@@ -58,10 +60,11 @@ def test_fragment_alone_is_checked_through_its_deck(hook, tmp_path):
     shutil.copytree(SAMPLES, work)
     (work / ".git").mkdir()
     (work / "ci.yml").write_text("stages: [test]\n")   # a YAML file that is not a material file: skipped
-    proc = run_entry(hook, [work / "materials" / "pv40_materials.inp", work / "ci.yml"], work)
+    proc = run_entry(hook, [work / "materials" / "pv40_materials.inp", work / "ci.yml"], work, "--format", "json")
     assert "Traceback" not in proc.stderr
-    assert "pv40_pump_assembly.inp" in proc.stdout                  # the deck that includes the fragment
-    assert "in 1 deck(s)" in proc.stdout and "not-a-deck" not in proc.stdout
+    doc = json.loads(proc.stdout)
+    assert [Path(f["path"]).name for f in doc["files"]] == ["pv40_pump_assembly.inp"]   # the including deck
+    assert not [f for f in doc["findings"] if f["rule"] == "parse/not-a-deck"]
     proc = run_entry(hook, [work / "ci.yml"], work)
     assert proc.returncode == 0 and proc.stdout == ""
 
