@@ -115,7 +115,10 @@ def scan_file(path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
                         s.target = n
                     pending = []
                 pos = nl + 1
-            hits = sorted({i for m in MARKERS for i in _find_all(block, m)})
+            # a directive sits after a comment prefix on its line: a block without any prefix has none
+            # (one memchr-like search instead of a search per spelling of the marker)
+            has_prefix = any(block.find(p) >= 0 for p in bprefixes)
+            hits = sorted({i for m in MARKERS for i in _find_all(block, m)}) if has_prefix else []
             last_line_start = -1
             for at in hits:
                 start = block.rfind(b"\n", 0, at) + 1
