@@ -118,8 +118,23 @@ def _no_deck_check(decks: list, result: RunResult, paths: list[str]) -> list:
     return decks
 
 
+def _collect(reports, total: int, progress) -> list[FileReport]:
+    """The file reports in order; ``progress`` (``linter.progress.Progress`` or None) advances per deck."""
+    if progress is None:
+        return list(reports)
+    out = []
+    progress.start(total)
+    try:
+        for fr in reports:
+            out.append(fr)
+            progress.advance(len(fr.findings))
+    finally:
+        progress.stop()
+    return out
+
+
 def check_paths(paths: list[str], config: Optional[Config] = None, jobs: Optional[int] = None,
-                details: bool = False) -> RunResult:
+                details: bool = False, progress=None) -> RunResult:
     config = config or Config()
     result = RunResult()
     registry.load()
@@ -145,10 +160,12 @@ def check_paths(paths: list[str], config: Optional[Config] = None, jobs: Optiona
                 return pool.map(fn, items, chunksize=max(1, len(items) // (jobs * 8)))
 
             decks = _no_deck_check(discover(paths, result, config, mapper), result, paths)
-            result.files = list(mapper(_check_one, [(p, fmt, config.for_path(p), policy, details) for p, fmt in decks]))
+            result.files = _collect(mapper(_check_one, [(p, fmt, config.for_path(p), policy, details)
+                                                        for p, fmt in decks]), len(decks), progress)
     else:
         decks = _no_deck_check(discover(paths, result, config), result, paths)
-        result.files = [_check_one((p, fmt, config.for_path(p), policy, details)) for p, fmt in decks]
+        result.files = _collect((_check_one((p, fmt, config.for_path(p), policy, details)) for p, fmt in decks),
+                                len(decks), progress)
     result.files.sort(key=lambda fr: fr.path)   # the same order whatever --jobs is
     if len(result.files) > 1:
         from .drift import material_drift   # run-level stage: materials compared across decks

@@ -14,7 +14,7 @@ from typing import Optional, Sequence
 
 from . import __version__
 
-FORMATS = ("text", "json", "sarif", "audit", "line")
+FORMATS = ("text", "json", "sarif", "audit", "line", "markdown")
 LEVELS = ("error", "warning", "note")
 EXIT_USAGE = 2
 
@@ -41,6 +41,10 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("paths", nargs="*", metavar="PATH", help="deck files or folders to walk")
     c.add_argument("--files-from", metavar="FILE|-",
                    help="also check the paths listed in FILE, one per line ('-': standard input), e.g. one shard")
+    c.add_argument("--only-decks", action="store_true",
+                   help="treat the files given like files of a folder walk (for a pre-commit hook): files that "
+                        "are not decks are skipped, an include-only fragment is checked through the decks that "
+                        "include it")
     c.add_argument("--baseline", metavar="FILE",
                    help="report only findings not recorded in this baseline; recorded ones are counted apart and "
                         "entries no finding matches are reported as fixed")
@@ -50,7 +54,7 @@ def build_parser() -> argparse.ArgumentParser:
                    help="SARIF automationDetails.id is deckwarden/NAME/ (default: derived from the paths checked)")
     c.add_argument("--format", "-f", choices=FORMATS, default="text",
                    help="report format (default: text; audit: the reviewer's audit in Markdown, or in HTML "
-                        "when --output ends with .html)")
+                        "when --output ends with .html; markdown: a short summary for a merge-request comment)")
     c.add_argument("--output", "-o", metavar="FILE", help="write the report to FILE instead of standard output")
     _config_options(c)
     c.add_argument("--materials", metavar="FILE",
@@ -286,10 +290,15 @@ def cmd_check(args) -> int:
 
     try:
         paths = gate.paths_of(args, cfg)
+        if not paths:                    # --only-decks and none of the files is a deck
+            return 0
         for extra in (args.baseline, args.write_baseline):
             if extra and os.path.realpath(extra) in {os.path.realpath(p) for p in paths}:
                 raise gate.GateError(f"{extra}: is one of the paths to check")
-        result = check_paths(paths, cfg, jobs=cfg.jobs, details=audit)
+        from .progress import for_terminal
+
+        result = check_paths(paths, cfg, jobs=cfg.jobs, details=audit,
+                             progress=for_terminal(sys.stderr, no_color=bool(args.no_color)))
         srcroot = gate.after_check(result, args, paths, fmt)
     except gate.GateError as exc:
         raise UsageError(str(exc)) from None

@@ -41,6 +41,8 @@ def paths_of(args, config) -> list[str]:
         paths += [p for p in listed if not config.excluded(p)]
         if not paths:
             raise GateError(f"--files-from {args.files_from}: lists no path")
+    if getattr(args, "only_decks", False):
+        return hook_paths(paths, config)          # may be empty: nothing to check
     if not paths:
         raise GateError("no path to check: give PATH arguments or --files-from FILE")
     return paths
@@ -92,3 +94,53 @@ def _common(roots: list[str]) -> Optional[str]:
         return os.path.commonpath(roots)
     except ValueError:
         return None
+
+
+def hook_paths(paths: list[str], config) -> list[str]:
+    """``--only-decks``: the files given (by a pre-commit hook, say) treated like files of a folder walk.
+
+    A file that is not a deck of a known format (another YAML file, a solver's result ``.dat``) is left out
+    silently; an ``exclude`` glob leaves it out too. A file that other decks include (an include-only
+    fragment) is not checked alone: the decks under the include root that include it, directly or through
+    other includes, are checked instead.
+    """
+    from . import parsers
+    from .discovery import _head, _includes_task, _walk, make_policy
+    from .findings import RunResult
+
+    exts = parsers.all_extensions()
+
+    def deck_format(p: str) -> Optional[str]:
+        if os.path.splitext(p)[1].lower() not in exts or config.excluded(p):
+            return None
+        try:
+            return parsers.detect(p, _head(p))
+        except OSError:
+            return None
+
+    given = [(p, fmt) for p in paths if os.path.isfile(p) for fmt in [deck_format(p)] if fmt]
+    if not given:
+        return []
+    policy = make_policy([p for p, _f in given], config)
+    root = policy.root or os.path.commonpath([os.path.dirname(os.path.abspath(p)) for p, _f in given])
+    includers: dict[str, list[str]] = {}
+    for f in _walk(root, RunResult()):
+        fmt = deck_format(f)
+        if fmt:
+            for inc in _includes_task((f, fmt, config, policy)):
+                includers.setdefault(inc, []).append(f)
+    out: set[str] = set()
+    for p, _fmt in given:
+        todo, seen = [os.path.realpath(p)], set()
+        while todo:
+            real = todo.pop()
+            if real in seen:
+                continue
+            seen.add(real)
+            if real in includers:
+                todo.extend(os.path.realpath(x) for x in includers[real])
+            elif real == os.path.realpath(p):
+                out.add(p)
+            else:
+                out.add(os.path.relpath(real) if not os.path.isabs(p) else real)
+    return sorted(out)

@@ -24,6 +24,7 @@ BUILTIN = {
     "audit": "linter.reporters.audit:report",
     "html": "linter.reporters.review_html:report",
     "line": "linter.reporters.line:report",
+    "markdown": "linter.reporters.markdown:report",
 }
 _REPORTERS: dict[str, Callable] = {}
 
