@@ -82,12 +82,14 @@ def _is_code(line: bytes, prefixes: tuple[bytes, ...]) -> bool:
 def scan_file(path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
     """The suppression comments of one file, each with the line of the next code line (``target``).
 
-    Reads the file in blocks of 1 MiB; memory does not grow with the file.
+    Reads the file in blocks of 1 MiB; memory does not grow with the file. Lines are counted only up to
+    the blocks that hold a comment to place (then from the file again, for the blocks skipped).
     """
     bprefixes = tuple(p.encode() for p in prefixes)
     found: list[Suppression] = []
     pending: list[Suppression] = []       # waiting for their next code line
-    line_no = 0                           # lines before the current block
+    line_no = 0                           # lines before byte ``counted``
+    counted = offset = 0                  # offset: where the current block starts in the file
     rest = b""
     try:
         fh = open(path, "rb")
@@ -105,6 +107,11 @@ def scan_file(path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
                     rest = data
                     continue
             block, rest = data[:end], data[end:]
+            has_prefix = any(block.find(p) >= 0 for p in bprefixes)
+            need = bool(pending) or has_prefix         # this block may place a comment: count its lines
+            if need and counted < offset:
+                line_no += _count_lines(path, counted, offset)
+                counted = offset
             pos = 0
             while pending and pos < len(block):       # the next code line of a comment in an earlier block
                 nl = block.find(b"\n", pos)
@@ -117,7 +124,6 @@ def scan_file(path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
                 pos = nl + 1
             # a directive sits after a comment prefix on its line: a block without any prefix has none
             # (one memchr-like search instead of a search per spelling of the marker)
-            has_prefix = any(block.find(p) >= 0 for p in bprefixes)
             hits = sorted({i for m in MARKERS for i in _find_all(block, m)}) if has_prefix else []
             last_line_start = -1
             for at in hits:
@@ -150,10 +156,27 @@ def scan_file(path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
                     pos = nl + 1
                 else:
                     pending.append(sup)
-            line_no += block.count(b"\n")
+            if need:
+                line_no += block.count(b"\n")
+                counted += len(block)
+            offset += len(block)
             if not chunk:
                 break
     return found
+
+
+def _count_lines(path: str, start: int, stop: int) -> int:
+    """Newlines in bytes [start, stop) of the file."""
+    n = 0
+    with open(path, "rb") as fh:
+        fh.seek(start)
+        while start < stop:
+            piece = fh.read(min(BLOCK, stop - start))
+            if not piece:
+                break
+            n += piece.count(b"\n")
+            start += len(piece)
+    return n
 
 
 def _find_all(data: bytes, word: bytes) -> Iterable[int]:
