@@ -116,7 +116,8 @@ class Config:
     rules: dict[str, str] = field(default_factory=dict)
     select: list[str] = field(default_factory=list)
     ignore: list[str] = field(default_factory=list)
-    thresholds: dict[str, Any] = field(default_factory=default_thresholds)
+    # a copy per Config: the cached defaults must never be changed through one configuration
+    thresholds: dict[str, Any] = field(default_factory=lambda: copy.deepcopy(default_thresholds()))
     units: Optional[str] = None
     solver_cwd: Optional[str] = None
     include_root: Optional[str] = None

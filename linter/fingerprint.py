@@ -74,18 +74,18 @@ def line_texts(path: str, wanted: set[int]) -> dict[int, str]:
             while n < last:
                 chunk = fh.read(BLOCK)
                 data = rest + chunk
-                if not chunk:
-                    lines = data.split(b"\n")
-                    rest = b""
+                if chunk:
+                    cut = data.rfind(b"\n") + 1
+                    data, rest = data[:cut], data[cut:]
+                    k = data.count(b"\n")          # whole lines in this block
                 else:
-                    lines = data.split(b"\n")
-                    rest = lines.pop()
-                for raw in lines:
-                    n += 1
-                    if n in wanted:
-                        out[n] = raw.decode("utf-8", "replace")
-                    if n >= last:
-                        break
+                    rest = b""
+                    k = data.count(b"\n") + 1      # the last line has no newline
+                if any(n < w <= n + k for w in wanted):      # split only the blocks holding a wanted line
+                    for i, raw in enumerate(data.split(b"\n")[:k], start=n + 1):
+                        if i in wanted:
+                            out[i] = raw.decode("utf-8", "replace")
+                n += k
                 if not chunk:
                     break
     except OSError:

@@ -25,6 +25,8 @@ from typing import Any, Iterable, Optional
 
 BLOCK = 1 << 20
 MARKERS = (b"deckwarden", b"DECKWARDEN", b"Deckwarden")
+_ONE_BYTE = (b"w", b"W")          # every marker holds one of these: a block without them has no marker
+assert all(any(c in m for c in _ONE_BYTE) for m in MARKERS)
 _HEAD = re.compile(r"^\s*deckwarden\s+accept\b(?P<rest>.*)$", re.I)
 _TAIL = re.compile(r"^(?P<ids>.*?)(?:\s+for\s+(?P<scope>.*?))?(?:\s+because\b\s*(?P<reason>.*))?\s*$", re.I | re.S)
 #: findings no comment can accept
@@ -107,8 +109,8 @@ def scan_file(path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
                     rest = data
                     continue
             block, rest = data[:end], data[end:]
-            has_prefix = any(block.find(p) >= 0 for p in bprefixes)
-            need = bool(pending) or has_prefix         # this block may place a comment: count its lines
+            may_hold = any(c in block for c in _ONE_BYTE) and any(block.find(p) >= 0 for p in bprefixes)
+            need = bool(pending) or may_hold         # this block may place a comment: count its lines
             if need and counted < offset:
                 line_no += _count_lines(path, counted, offset)
                 counted = offset
@@ -122,9 +124,9 @@ def scan_file(path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
                         s.target = n
                     pending = []
                 pos = nl + 1
-            # a directive sits after a comment prefix on its line: a block without any prefix has none
-            # (one memchr-like search instead of a search per spelling of the marker)
-            hits = sorted({i for m in MARKERS for i in _find_all(block, m)}) if has_prefix else []
+            # a directive sits after a comment prefix on its line: a block without any prefix has none,
+            # nor has a block without a 'w' (one-byte searches rule out most blocks)
+            hits = sorted({i for m in MARKERS for i in _find_all(block, m)}) if may_hold else []
             last_line_start = -1
             for at in hits:
                 start = block.rfind(b"\n", 0, at) + 1

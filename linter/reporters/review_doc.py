@@ -83,16 +83,23 @@ def para(*parts: Any, cls: str = "") -> P:
 # --------------------------------------------------------------------------- numbers
 
 
-def given(value: Any) -> str:
-    """A constant as written: the shortest form that reads back as the same float ('' when absent)."""
+def _number_or_text(value: Any, absent: str) -> tuple[Optional[float], str]:
+    """(the float, "") for a number; (None, what to show) for anything else."""
     if value is None:
-        return "(blank)"
+        return None, absent
     if isinstance(value, bool):
-        return "yes" if value else "no"
+        return None, "yes" if value else "no"
     try:
-        f = float(value)
+        return float(value), ""
     except (TypeError, ValueError):
-        return visible(value)
+        return None, visible(value)
+
+
+def given(value: Any) -> str:
+    """A constant as written: the shortest form that reads back as the same float ('(blank)' when absent)."""
+    f, shown = _number_or_text(value, "(blank)")
+    if f is None:
+        return shown
     if not math.isfinite(f):
         return str(f)
     s = repr(f)
@@ -101,14 +108,9 @@ def given(value: Any) -> str:
 
 def derived(value: Any) -> str:
     """A computed value, 6 significant digits; 'n/a' when not defined (infinite or missing)."""
-    if value is None:
-        return "n/a"
-    if isinstance(value, bool):
-        return "yes" if value else "no"
-    try:
-        f = float(value)
-    except (TypeError, ValueError):
-        return visible(value)
+    f, shown = _number_or_text(value, "n/a")
+    if f is None:
+        return shown
     if math.isinf(f):
         return "infinite"
     if not math.isfinite(f):

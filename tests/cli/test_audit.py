@@ -365,3 +365,12 @@ def test_a_comment_in_the_deck_shows_as_a_suppressed_finding(tmp_path, capsys):
     doc = out.read_text(encoding="utf-8")
     assert "Suppressed findings (0)" in doc and "0 error(s), 0 warning(s), 1 note(s)" in doc
     assert "configuration: inline_suppressions" in doc and "false" in doc
+
+
+def test_number_formatting_rules():
+    # a constant as written keeps every digit a reader typed (0.49995 is not 0.5)
+    assert given(0.49995) == "0.49995" and given(210000.0) == "210000" and given(7.85e-09) == "7.85e-09"
+    assert given(None) == "(blank)" and given(float("nan")) == "nan"
+    # a derived value: 6 significant digits, infinite and undefined spelled out
+    assert derived(80769.23076923) == "80769.2" and derived(2.0e11 / 3) == "6.66667e+10"
+    assert derived(float("inf")) == "infinite" and derived(float("nan")) == "n/a" and derived(None) == "n/a"

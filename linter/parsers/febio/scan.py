@@ -2,8 +2,8 @@
 
 ``<Nodes>``, ``<Elements>`` and the other per-item blocks (surfaces, sets, mesh data) are most
 of the bytes of a model. They are located by scanning the bytes for their tags and cut out of
-the text handed to the XML parser: their content is replaced by as many newlines as it held,
-so every line number of the remaining skeleton stays the line number in the file. Items are
+the text handed to the XML parser: their content is replaced by a comment holding as many newlines
+as it held, so every line number of the remaining skeleton stays the line number in the file. Items are
 counted with ``bytes.count`` and parsed with numpy only when a rule asks for them.
 """
 from __future__ import annotations
@@ -78,9 +78,10 @@ def scan(data: bytes) -> Scan:
             break      # unclosed: the XML parser reports it
         start, end = m.end(), close
         small = end - start < MIN_CUT and tag not in (b"Nodes", b"Elements")
-        if small or data.find(b"<" + tag, start, end) >= 0:
-            search = m.end()    # small, or oddly nested: leave it to the XML parser
+        if small:
+            search = m.end()    # small: leave it to the XML parser
             continue
+        # (a block nested in one of its own tag would leave a stray closing tag: the XML parser reports it)
         line += data.count(b"\n", pos, m.start())
         item = ITEM_TAG.get(tag)
         count = data.count(item, start, end) if item else 0
@@ -89,7 +90,8 @@ def scan(data: bytes) -> Scan:
         blocks.append(Block(tag.decode(), _attrs(m.group(2)), line, start, end, count))
         newlines = data.count(b"\n", start, end)
         parts.append(data[pos:start])
-        parts.append(b"\n" * newlines)
+        # inside a comment, so that the XML parser skips them in C instead of reporting character data
+        parts.append(b"<!--" + b"\n" * newlines + b"-->")
         line += data.count(b"\n", m.start(), start) + newlines
         pos = search = end
     parts.append(data[pos:])
