@@ -50,7 +50,7 @@ def test_exit_0_clean_deck(decks, capsys):
 def test_exit_1_finding_at_fail_level(decks, capsys):
     code, out, _ = run(["check", "bad.inp", "--format", "line"], capsys)
     assert code == 1
-    # nu = 0.7 is outside -1 < nu < 0.5 (isotropic elasticity, physics.md 1.2)
+    # nu = 0.7 is outside -1 < nu < 0.5 (positive-definite isotropic strain energy; Timoshenko & Goodier, Theory of Elasticity, from memory)
     assert re.search(r"^bad\.inp:10: error: elastic/[a-z-]+: .*\[MAT1\]$", out, re.M)
 
 
