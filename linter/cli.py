@@ -341,9 +341,9 @@ def rules_markdown(rules) -> str:
     """The README rule list (between ``<!-- rules:start -->`` and ``<!-- rules:end -->``)."""
     from .reporters.audit import md
 
-    lines = ["| Rule | Severity | What it reports |", "| --- | --- | --- |"]
+    lines = ["| Rule | Severity | Other levels, and when | What it reports |", "| --- | --- | --- | --- |"]
     for r in rules:
-        lines.append(f"| `{r.id}` | {r.severity} | {md(r.title)} |")
+        lines.append(f"| `{r.id}` | {r.severity} | {md(getattr(r, 'escalation', '')) or '-'} | {md(r.title)} |")
     return "\n".join(lines) + "\n"
 
 

@@ -77,6 +77,12 @@ def discover(paths: list[str], result: RunResult, config: Config, mapper=map) ->
                 elif fmt:
                     walked.append((f, fmt))
             continue
+        from .parsers.sources import not_regular
+
+        special = not_regular(p)
+        if special:
+            result.general.append(general_finding("parse/file-unreadable", f"{p}: {special}", p))
+            continue
         try:
             head = _head(p)
         except OSError as exc:
@@ -89,11 +95,9 @@ def discover(paths: list[str], result: RunResult, config: Config, mapper=map) ->
             if looks_binary(head):
                 result.general.append(general_finding("parse/binary-file", f"{p}: is a binary file, not a text deck", p))
             elif not head.strip():
-                fmts = parsers.formats_for_extension(os.path.splitext(p)[1])
-                if fmts:
-                    explicit.append((p, fmts[0]))
-                    continue
-                result.general.append(general_finding("parse/not-a-deck", f"{p}: empty file of unknown format", p))
+                # a file given by name must be a model: an empty one fails the check (an empty include is a warning)
+                result.general.append(general_finding("parse/not-a-deck", f"{p}: the file is empty (or blank): "
+                                                      "it holds no model", p))
             else:
                 hint = (" (a mesh: check it with --materials FILE, or name it in a material file)"
                         if os.path.splitext(p)[1].lower() in MESH_EXTENSIONS else "")
@@ -119,8 +123,10 @@ def discover(paths: list[str], result: RunResult, config: Config, mapper=map) ->
 
 
 def _walk(top: str, result: RunResult):
-    """Files under ``top`` in sorted order; follows links to folders once (loops are cut)."""
+    """Files under ``top`` in sorted order. A link to a folder is followed only when its target lies
+    inside ``top`` (the walk never leaves the folder given) and each folder is read once (no loops)."""
     seen_dirs: set[str] = set()
+    root = os.path.realpath(top)
     stack = [top]
     while stack:
         d = stack.pop()
@@ -138,13 +144,18 @@ def _walk(top: str, result: RunResult):
         for e in entries:
             try:
                 if e.is_dir(follow_symlinks=True):
-                    if not e.name.startswith("."):
+                    if not e.name.startswith(".") and _inside(e.path, root):
                         subdirs.append(e.path)
                 elif e.is_file(follow_symlinks=True):
                     yield e.path
             except OSError:
                 continue
         stack.extend(reversed(subdirs))
+
+
+def _inside(path: str, root: str) -> bool:
+    real = os.path.realpath(path)
+    return real == root or real.startswith(root.rstrip(os.sep) + os.sep)
 
 
 def make_policy(paths: list[str], config: Config) -> IncludePolicy:

@@ -116,12 +116,31 @@ class RunResult:
         return out
 
 
+def encodable(text: str) -> str:
+    """``text`` with lone surrogates escaped, so it can be written as UTF-8.
+
+    A file name that is not valid UTF-8 reaches Python with its bad bytes as surrogates
+    (U+DC80..U+DCFF); those are written as ``\\xNN`` (the byte), other lone surrogates as ``\\uNNNN``.
+    """
+    if text.isascii():
+        return text
+    try:
+        text.encode("utf-8")
+        return text
+    except UnicodeEncodeError:
+        return "".join(ch if not 0xD800 <= ord(ch) <= 0xDFFF else
+                       (f"\\x{ord(ch) - 0xDC00:02x}" if 0xDC80 <= ord(ch) <= 0xDCFF else f"\\u{ord(ch):04x}")
+                       for ch in text)
+
+
 def jsonable(value: Any) -> Any:
     """Plain JSON types from numpy scalars/arrays, tuples, non-finite floats (-> None)."""
     import numpy as np
 
+    if isinstance(value, str):
+        return encodable(value)
     if isinstance(value, dict):
-        return {str(k): jsonable(v) for k, v in value.items() if not str(k).startswith("_")}
+        return {encodable(str(k)): jsonable(v) for k, v in value.items() if not str(k).startswith("_")}
     if isinstance(value, (list, tuple)):
         return [jsonable(v) for v in value]
     if isinstance(value, np.ndarray):
@@ -133,9 +152,9 @@ def jsonable(value: Any) -> Any:
         return int(value)
     if isinstance(value, (np.bool_,)):
         return bool(value)
-    if value is None or isinstance(value, (str, int, bool)):
+    if value is None or isinstance(value, (int, bool)):
         return value
-    return str(value)
+    return encodable(str(value))
 
 
 def raised_at(exc: BaseException) -> str:

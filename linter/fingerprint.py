@@ -11,6 +11,7 @@ The same string goes into the JSON report (``fingerprint``), the baseline file a
 """
 from __future__ import annotations
 
+import bisect
 import hashlib
 import json
 import os
@@ -67,25 +68,27 @@ def line_texts(path: str, wanted: set[int]) -> dict[int, str]:
     out: dict[int, str] = {}
     if not wanted:
         return out
-    last = max(wanted)
+    order = sorted(wanted)
+    last = order[-1]
     n, rest = 0, b""
     try:
         with open(path, "rb") as fh:
             while n < last:
                 chunk = fh.read(BLOCK)
                 data = rest + chunk
-                if not chunk:
-                    lines = data.split(b"\n")
-                    rest = b""
+                if chunk:
+                    cut = data.rfind(b"\n") + 1
+                    data, rest = data[:cut], data[cut:]
+                    k = data.count(b"\n")          # whole lines in this block
                 else:
-                    lines = data.split(b"\n")
-                    rest = lines.pop()
-                for raw in lines:
-                    n += 1
-                    if n in wanted:
-                        out[n] = raw.decode("utf-8", "replace")
-                    if n >= last:
-                        break
+                    rest = b""
+                    k = data.count(b"\n") + 1      # the last line has no newline
+                at = bisect.bisect_right(order, n)
+                if at < len(order) and order[at] <= n + k:      # split only the blocks holding a wanted line
+                    for i, raw in enumerate(data.split(b"\n")[:k], start=n + 1):
+                        if i in wanted:
+                            out[i] = raw.decode("utf-8", "replace")
+                n += k
                 if not chunk:
                     break
     except OSError:

@@ -300,6 +300,10 @@ PROCEDURES: dict[str, dict[str, bool]] = {
     "coupled-steady":         {"structural": True,  "mass": False, "thermal": True,  "transient_thermal": False},
     "coupled-transient":      {"structural": True,  "mass": False, "thermal": True,  "transient_thermal": True},
     "uncoupled-transient":    {"structural": True,  "mass": False, "thermal": True,  "transient_thermal": True},
+    # *HEAT TRANSFER, FREQUENCY: eigenmodes of the scalar (heat / acoustic-analogy) field: needs rho*c
+    "heat-frequency":         {"structural": False, "mass": False, "thermal": True,  "transient_thermal": True},
+    # modal dynamics / steady-state dynamics on the modes of a heat-frequency step: no stiffness needed
+    "scalar-modal":           {"structural": False, "mass": False, "thermal": True,  "transient_thermal": True},
     "other":                  {"structural": False, "mass": False, "thermal": False, "transient_thermal": False},
 }
 

@@ -39,6 +39,8 @@ class Rule:
     #: emitted by the engine itself (parse driver, runner) rather than run as a function
     engine: bool = False
     pack: str = "builtin"
+    #: when a finding of the rule takes another level than ``severity`` (empty: never)
+    escalation: str = ""
     #: a finding of this rule means part of the input was not checked: the check is incomplete (exit code 2)
     incomplete: bool = False
     #: the thresholds (dotted keys of ``linter/data/thresholds.yaml``) the rule reads, directly or through
@@ -70,7 +72,8 @@ def register(r: Rule) -> Rule:
 
 def rule(id: str, *, severity: str, title: str, rationale: str, references: Iterable[str] = (),
          data: str = "", formats: Optional[Iterable[str]] = None, dialects: Optional[Iterable[str]] = None,
-         pack: Optional[str] = None, incomplete: bool = False, thresholds: Iterable[str] = ()):
+         pack: Optional[str] = None, incomplete: bool = False, thresholds: Iterable[str] = (),
+         escalation: str = ""):
     """Decorator: register ``fn(model, ctx)`` as rule ``id``."""
 
     def deco(fn: Callable) -> Callable:
@@ -80,7 +83,7 @@ def rule(id: str, *, severity: str, title: str, rationale: str, references: Iter
                                 references=tuple(references), data=data,
                                 formats=tuple(formats) if formats else None,
                                 dialects=tuple(dialects) if dialects else None, pack=the_pack,
-                                incomplete=incomplete, thresholds=tuple(thresholds)))
+                                incomplete=incomplete, thresholds=tuple(thresholds), escalation=escalation))
         return fn
 
     return deco

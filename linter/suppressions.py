@@ -25,6 +25,8 @@ from typing import Any, Iterable, Optional
 
 BLOCK = 1 << 20
 MARKERS = (b"deckwarden", b"DECKWARDEN", b"Deckwarden")
+_ONE_BYTE = (b"w", b"W")          # every marker holds one of these: a block without them has no marker
+assert all(any(c in m for c in _ONE_BYTE) for m in MARKERS)
 _HEAD = re.compile(r"^\s*deckwarden\s+accept\b(?P<rest>.*)$", re.I)
 _TAIL = re.compile(r"^(?P<ids>.*?)(?:\s+for\s+(?P<scope>.*?))?(?:\s+because\b\s*(?P<reason>.*))?\s*$", re.I | re.S)
 #: findings no comment can accept
@@ -82,12 +84,14 @@ def _is_code(line: bytes, prefixes: tuple[bytes, ...]) -> bool:
 def scan_file(path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
     """The suppression comments of one file, each with the line of the next code line (``target``).
 
-    Reads the file in blocks of 1 MiB; memory does not grow with the file.
+    Reads the file in blocks of 1 MiB; memory does not grow with the file. Lines are counted only up to
+    the blocks that hold a comment to place (then from the file again, for the blocks skipped).
     """
     bprefixes = tuple(p.encode() for p in prefixes)
     found: list[Suppression] = []
     pending: list[Suppression] = []       # waiting for their next code line
-    line_no = 0                           # lines before the current block
+    line_no = 0                           # lines before byte ``counted``
+    counted = offset = 0                  # offset: where the current block starts in the file
     rest = b""
     try:
         fh = open(path, "rb")
@@ -105,6 +109,11 @@ def scan_file(path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
                     rest = data
                     continue
             block, rest = data[:end], data[end:]
+            may_hold = any(c in block for c in _ONE_BYTE) and any(block.find(p) >= 0 for p in bprefixes)
+            need = bool(pending) or may_hold         # this block may place a comment: count its lines
+            if need and counted < offset:
+                line_no += _count_lines(path, counted, offset)
+                counted = offset
             pos = 0
             while pending and pos < len(block):       # the next code line of a comment in an earlier block
                 nl = block.find(b"\n", pos)
@@ -115,7 +124,9 @@ def scan_file(path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
                         s.target = n
                     pending = []
                 pos = nl + 1
-            hits = sorted({i for m in MARKERS for i in _find_all(block, m)})
+            # a directive sits after a comment prefix on its line: a block without any prefix has none,
+            # nor has a block without a 'w' (one-byte searches rule out most blocks)
+            hits = sorted({i for m in MARKERS for i in _find_all(block, m)}) if may_hold else []
             last_line_start = -1
             for at in hits:
                 start = block.rfind(b"\n", 0, at) + 1
@@ -147,10 +158,27 @@ def scan_file(path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
                     pos = nl + 1
                 else:
                     pending.append(sup)
-            line_no += block.count(b"\n")
+            if need:
+                line_no += block.count(b"\n")
+                counted += len(block)
+            offset += len(block)
             if not chunk:
                 break
     return found
+
+
+def _count_lines(path: str, start: int, stop: int) -> int:
+    """Newlines in bytes [start, stop) of the file."""
+    n = 0
+    with open(path, "rb") as fh:
+        fh.seek(start)
+        while start < stop:
+            piece = fh.read(min(BLOCK, stop - start))
+            if not piece:
+                break
+            n += piece.count(b"\n")
+            start += len(piece)
+    return n
 
 
 def _find_all(data: bytes, word: bytes) -> Iterable[int]:

@@ -229,7 +229,7 @@ def missing_specific_heat(model, ctx):
 
 
 def has_expansion(mat: Material) -> bool:
-    """Some nonzero expansion coefficient (a bulk MAT1 with A blank reads as 0: no expansion)."""
+    """Some nonzero expansion coefficient (a bulk MAT1 with A blank gives no expansion block)."""
     return any(v != 0 for blk in mat.find("expansion") for r in blk.rows for v in r.values)
 
 
@@ -238,6 +238,7 @@ def initial_values(model) -> list[float]:
 
 
 @rule("analysis/missing-expansion", severity="warning",
+      escalation="note when the deck gives the coefficient as 0 (a given value)",
       title="A temperature change is applied to a material without thermal expansion",
       rationale="A structural step with temperatures that differ from the initial ones strains only "
                 "materials with an expansion coefficient; without one, the temperature load does nothing "
@@ -257,6 +258,16 @@ def missing_expansion(model, ctx):
                 if init else "no initial temperature (the solver's default)")
         for mat in step_materials(model, step.procedures[0] if step.procedures else None):
             if has_expansion(mat) or not structural_use(model, ctx, mat.key):
+                continue
+            given = mat.find("expansion")
+            if given:
+                at = given[0].rows[0].loc if given[0].rows and given[0].rows[0].loc else given[0].loc      # a coefficient of 0 written in the deck is a given value: a note at most
+                yield ctx.finding(
+                    f"material {mat.name} gives a thermal expansion coefficient of 0 (line {at.line}), "
+                    f"so the temperature {ld.value:.4g} of step {step.name} (line {ld.loc.line}) strains nothing in "
+                    "it; fine if intended", at, material=mat.name, severity="note",
+                    data={"step": step.name, "line": ld.loc.line, "temperature": ld.value,
+                          "initial": init[0] if init else None, "given_zero": True})
                 continue
             yield ctx.finding(
                 f"material {mat.name} has no thermal expansion, but step {step.name} applies temperature "

@@ -93,6 +93,7 @@ def wave_speeds(mat) -> Optional[tuple[float, float, str]]:
 
 
 @rule("analysis/explicit-time-step", severity="note",
+      escalation="warning when near-incompressibility makes the increment far smaller than the shear-wave estimate",
       title="Estimated stable time increment of an explicit dynamic step",
       rationale="The central-difference method is stable for dt <= L_e / c_d. Near-incompressible materials "
                 "have a dilatational speed far above the shear speed, so their bulk stiffness, not their "

@@ -92,6 +92,7 @@ def _row_path(mat, entry) -> str:
 
 
 @rule("aniso/not-positive-definite", severity="error",
+      escalation="warning for a fluid written as an orthotropic solid (six equal normal terms: acoustic analogies)",
       title="Anisotropic stiffness not positive definite",
       rationale="The strain energy of a linear elastic material must be positive for every strain: the 6x6 "
                 "(shell: 3x3 or 2x2) stiffness must be positive definite. For engineering constants that "
@@ -121,9 +122,40 @@ def not_positive_definite(model, ctx):
             data = {"form": entry["form"], "part": entry["part"],
                     "rows": [{k: r.get(k) for k in ("line", "temperature", "eig_min", "eig_max", "determinant")}
                              for r in rows]}
-            yield ctx.finding(f"{_where(mat, entry)}: the stiffness is not positive definite: {rows_text(items)}",
-                              Loc(_row_path(mat, entry), entry["line"]), material=mat.name, data=data,
-                              restates=restates)
+            msg = f"{_where(mat, entry)}: the stiffness is not positive definite: {rows_text(items)}"
+            sev = None
+            if _fluid_like(mat, entry):
+                # equal normal terms: the bulk stiffness of a fluid written as an orthotropic solid (the
+                # acoustic analogy of the solver's examples); singular on purpose, wrong for a structure
+                sev = "warning"
+                data["fluid_like"] = True
+                msg += ("; the six normal terms are equal: the bulk stiffness of a fluid written as an orthotropic "
+                        "solid, as in acoustic analogies; a solid part would have no stiffness against "
+                        "volume-preserving normal strain")
+            yield ctx.finding(msg, Loc(_row_path(mat, entry), entry["line"]), material=mat.name, data=data,
+                              restates=restates, severity=sev)
+
+
+def _fluid_like(mat, entry) -> bool:
+    """An orthotropic D-value block whose every row has six equal normal terms (D1111 = D1122 = ... = K:
+    the hydrostatic stiffness of a fluid) and no negative shear term."""
+    if entry.get("form") != "ortho":
+        return False
+    blk = next((b for b in mat.blocks if b.kind == "elastic" and b.form == "ortho"
+                and b.loc.line == entry.get("line")), None)
+    if blk is None or not blk.rows:
+        return False
+    lay = list(blk.layout)
+    normal = [lay.index(k) for k in ("D1111", "D1122", "D2222", "D1133", "D2233", "D3333") if k in lay]
+    shear = [lay.index(k) for k in ("D1212", "D1313", "D2323") if k in lay]
+    if len(normal) != 6 or len(shear) != 3:
+        return False
+    for r in blk.rows:
+        v = r.values
+        n = [v[i] for i in normal]
+        if any(v[i] < 0 for i in shear) or min(n) < 0 or max(n) - min(n) > 1e-9 * max(abs(max(n)), 1e-300):
+            return False
+    return True
 
 
 @rule("aniso/ill-conditioned", severity="warning",

@@ -96,6 +96,7 @@ def _aster_tail(bad, use: str) -> str:
 
 
 @rule("elastic/poisson-out-of-range", severity="error",
+      escalation="warning for a bulk NU = 0.5 on plates and shells only (accepted there, fatal in solids)",
       title="Poisson's ratio outside (-1, 0.5)",
       rationale="An isotropic solid is stable only for -1 < nu < 0.5. At nu = 0.5 the bulk modulus "
                 "K = E/(3(1-2nu)) is infinite (the incompressible limit): a displacement-based solver cannot "

@@ -61,6 +61,8 @@ def _stiffness_cause(mat, ctx):
 
 
 @rule("element/volumetric-locking", severity="warning",
+      escalation="error when the material is incompressible enough to stop the solve on severely locking elements; "
+                 "note on mildly locking elements or for plastic flow alone",
       title="Nearly incompressible or plastic material on elements that lock",
       rationale="Fully integrated low-order displacement elements cannot deform at constant volume without "
                 "spurious stiffness: with nu near 0.5 (K/G large), a nearly incompressible hyperelastic "

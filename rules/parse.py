@@ -16,8 +16,9 @@ ISSUE_RULES = {
                        "else; the line is skipped and parsing continues.", (CCX,)),
     "missing-include": ("error", "An included file does not exist",
                         "The solver stops when an include is missing; everything defined in it (materials, "
-                        "sets) is also missing from this check. Findings that follow only from the missing "
-                        "file are not repeated.",
+                        "sets) is also missing from this check, which is marked incomplete. Findings that follow "
+                        "only from the missing file are not repeated; when no element is left, the finding lists "
+                        "the checks that could not run.",
                         ("CalculiX CrunchiX User's Manual *INCLUDE; NASTRAN-95 User's Manual and MYSTRAN source "
                          "LOADB.f90, INCLUDE",)),
     "include-refused": ("error", "An include leaves the include root",
@@ -46,6 +47,11 @@ ISSUE_RULES = {
                        "An unrecognised parameter value is silently replaced by the default (e.g. an unknown "
                        "*ELASTIC TYPE is read as isotropic, N= before the model name is applied to the "
                        "default model).", ("ccx source, elastics.f / hyperelastics.f",)),
+    "unknown-keyword": ("warning", "A keyword the solver does not know",
+                        "CalculiX skips a keyword it cannot interpret, with its data lines, and only warns: a "
+                        "misspelt *DENSITY leaves the material without density. The finding names the nearest "
+                        "keyword the solver knows.",
+                        ("ccx 2.20 source, calinput.f ('card image cannot be interpreted'); " + CCX,)),
     "unknown-element-type": ("error", "An element type the dialect does not define",
                              "The solver refuses unknown element types (e.g. hybrid ...H names in CalculiX).",
                              ("ccx source, elements.f",)),
@@ -111,14 +117,34 @@ ISSUE_RULES = {
 }
 
 
+def _with_consequences(model, message: str, data: dict) -> tuple[str, dict]:
+    """A missing include, with what it takes from the check: with no element left in the model, the
+    checks that work on elements (and on which material the elements use) did not run."""
+    from linter import registry
+
+    missing = [inc for inc in model.includes if inc.status == "missing"]
+    if any(b.count for b in model.element_blocks) or not missing or missing[0].path != data.get("include"):
+        return message + "; what it defines is missing from this check (the check is incomplete)", data
+    not_run = sorted(r.id for r in registry.all_rules() if r.family == "element") + [
+        "analysis/* and units/* per material in use (no element uses a material)"]
+    return (message + f"; with {len(missing)} include(s) missing the model has no elements, so the checks that need "
+            f"them did not run: {', '.join(not_run)}; the check is incomplete",
+            {**data, "elements": 0, "checks_not_run": not_run})
+
+
+#: the codes whose issues may carry another level than the rule's
+ESCALATION = {"malformed-data": "warning for values after the temperature that the solver does not read"}
+
+
 #: issues that mean part of the input was not read: the check is incomplete (exit code 2)
-INCOMPLETE_ISSUES = ("include-refused", "include-unreadable", "xml-refused", "xml-malformed", "xml-unavailable",
-                     "unsupported-version")
+INCOMPLETE_ISSUES = ("include-refused", "include-unreadable", "missing-include", "xml-refused", "xml-malformed",
+                     "xml-unavailable", "unsupported-version")
 
 
 def _make(code, severity, title, rationale, refs):
     @rule(f"parse/{code}", severity=severity, title=title, rationale=rationale, references=refs,
-          data="as recorded by the parser (e.g. field, value, read_as)", incomplete=code in INCOMPLETE_ISSUES)
+          data="as recorded by the parser (e.g. field, value, read_as)", incomplete=code in INCOMPLETE_ISSUES,
+          escalation=ESCALATION.get(code, ""))
     def _issue_rule(model, ctx, _code=code):
         for iss in model.issues:
             if iss.code == _code:
@@ -130,7 +156,10 @@ def _make(code, severity, title, rationale, refs):
                     defect = ("empty-field", iss.loc.path, iss.loc.line)
                 else:
                     defect = None
-                yield ctx.finding(iss.message, iss.loc, material=iss.material, data=data, severity=sev,
+                message = iss.message
+                if _code == "missing-include":
+                    message, data = _with_consequences(model, message, data)
+                yield ctx.finding(message, iss.loc, material=iss.material, data=data, severity=sev,
                                   defect=defect)
 
     _issue_rule.__name__ = "parse_" + code.replace("-", "_")

@@ -6,6 +6,7 @@ line ends; :func:`read_deck_bytes` delivers exactly that and says what it did.
 from __future__ import annotations
 
 import os
+import stat
 from dataclasses import dataclass
 
 BOMS = (
@@ -48,6 +49,26 @@ def looks_binary(head: bytes) -> bool:
     return ctrl > len(head) * 0.05
 
 
+def special_kind(mode: int) -> str:
+    """What a file that is not regular is, in words."""
+    for test, name in ((stat.S_ISFIFO, "a named pipe (FIFO)"), (stat.S_ISCHR, "a character device"),
+                       (stat.S_ISBLK, "a block device"), (stat.S_ISSOCK, "a socket")):
+        if test(mode):
+            return name
+    return "a special file"
+
+
+def not_regular(path: str):
+    """None for a regular file (or a path that cannot be stat'ed); else why it is refused."""
+    try:
+        mode = os.stat(path).st_mode
+    except OSError:
+        return None
+    if stat.S_ISREG(mode) or stat.S_ISDIR(mode):
+        return None
+    return f"is {special_kind(mode)}, not a regular file; refused (reading it could block or never end)"
+
+
 def read_deck_bytes(path: str, max_size: int) -> Source:
     try:
         st = os.stat(path)
@@ -55,8 +76,11 @@ def read_deck_bytes(path: str, max_size: int) -> Source:
         raise SourceError("file-unreadable", "file not found") from None
     except OSError as exc:
         raise SourceError("file-unreadable", f"cannot read the file ({exc.strerror or exc})") from None
-    if os.path.isdir(path):
+    if stat.S_ISDIR(st.st_mode):
         raise SourceError("file-unreadable", "is a directory, not a file")
+    if not stat.S_ISREG(st.st_mode):
+        raise SourceError("file-unreadable", f"is {special_kind(st.st_mode)}, not a regular file; refused "
+                          "(reading it could block or never end)")
     if st.st_size > max_size:
         raise SourceError("file-too-large",
                           f"file is {st.st_size / 2**20:.1f} MiB, over the limit of {max_size / 2**20:.0f} MiB "

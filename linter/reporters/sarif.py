@@ -28,7 +28,8 @@ def uri_of(path: str) -> str:
     p = str(path)
     if os.path.isabs(p):
         return Path(p).as_uri()
-    return quote(p.replace(os.sep, "/"), safe="/-._~")
+    # bytes, so that a name that is not valid UTF-8 is percent-encoded byte by byte
+    return quote(os.fsencode(p.replace(os.sep, "/")), safe="/-._~")
 
 
 def _level(sev: Any) -> str:

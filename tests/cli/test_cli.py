@@ -50,7 +50,7 @@ def test_exit_0_clean_deck(decks, capsys):
 def test_exit_1_finding_at_fail_level(decks, capsys):
     code, out, _ = run(["check", "bad.inp", "--format", "line"], capsys)
     assert code == 1
-    # nu = 0.7 is outside -1 < nu < 0.5 (isotropic elasticity, physics.md 1.2)
+    # nu = 0.7 is outside -1 < nu < 0.5 (positive-definite isotropic strain energy; Timoshenko & Goodier, Theory of Elasticity, from memory)
     assert re.search(r"^bad\.inp:10: error: elastic/[a-z-]+: .*\[MAT1\]$", out, re.M)
 
 
@@ -167,7 +167,12 @@ def test_rules_listing(capsys):
     assert [r["id"] for r in json.loads(out)] == ids
     code, out, _ = run(["rules", "--format", "markdown"], capsys)
     assert out == rules_markdown(registry.all_rules())
-    assert out.startswith("| Rule | Severity | What it reports |") and out.count("\n| `") == len(ids)
+    assert out.startswith("| Rule | Severity | Other levels, and when | What it reports |") \
+        and out.count("\n| `") == len(ids)
+    # a rule whose findings can take another level says when, in its own row
+    row = next(x for x in out.splitlines() if x.startswith("| `element/volumetric-locking`"))
+    assert "error when" in row and "note on" in row
+    assert next(x for x in out.splitlines() if x.startswith("| `model/unused-material`")).split(" | ")[2] == "-"
 
 
 def test_readme_rule_list_is_current():
@@ -215,7 +220,10 @@ def test_module_entry_subprocess(decks):
                           capture_output=True, text=True, env=_env(NO_COLOR="1"), timeout=120)
     assert proc.returncode == 2, proc.stderr
     assert "\x1b" not in proc.stdout and "Traceback" not in proc.stderr
-    assert "bad.inp:10" in proc.stdout and "nowhere.inp" in proc.stdout
+    assert "nowhere.inp" in proc.stdout
+    # the deck's heading names the file; its findings show the line only
+    deck_part = proc.stdout.split(" bad.inp ", 1)[1]
+    assert re.search(r"^\s*10\s+ERROR\s", deck_part, re.M), proc.stdout
 
 
 def test_importing_cli_stays_light():

@@ -102,7 +102,7 @@ def test_real_deck_report_is_valid(validator, write_deck, monkeypatch):
     validator.validate(doc)
     assert doc["files"][0]["path"] == "beam.inp"
     assert [m["name"] for m in doc["files"][0]["materials"]] == ["AL"]
-    # nu = 0.7 is outside -1 < nu < 0.5 (admissible range of isotropic elasticity, physics.md 1.2)
+    # nu = 0.7 is outside -1 < nu < 0.5 (admissible range of isotropic elasticity; Timoshenko & Goodier, from memory)
     assert any(f["rule"].startswith("elastic/") and f["line"] == 10 for f in doc["findings"])
 
 

@@ -91,7 +91,7 @@ def test_real_deck(validator, write_deck, monkeypatch):
     doc = render(check_paths(["plate.inp"], Config()))
     validator.validate(doc)
     results = doc["runs"][0]["results"]
-    # E < 0 is not admissible (positive definiteness of isotropic elasticity, physics.md 1.2)
+    # E < 0 is not admissible (positive definiteness of isotropic elasticity; Timoshenko & Goodier, from memory)
     hits = [r for r in results if r["ruleId"].startswith("elastic/") and r["level"] == "error"]
     assert hits and hits[0]["locations"][0]["physicalLocation"]["artifactLocation"]["uri"] == "plate.inp"
     assert hits[0]["locations"][0]["physicalLocation"]["region"]["startLine"] == 10

@@ -116,6 +116,7 @@ def test_incompleteness_is_declared_on_the_rules():
         "internal/rule-failed", "internal/parser-failed", "internal/derive-failed", "internal/plugin-failed",
         "parse/include-refused", "parse/include-unreadable", "parse/file-unreadable", "parse/binary-file",
         "parse/file-too-large", "parse/not-a-deck", "parse/path-not-found", "parse/no-deck-found",
+        "parse/missing-include",
         # an XML model refused as unsafe, not well-formed, unreadable for lack of defusedxml or of another version
         "parse/xml-refused", "parse/xml-malformed", "parse/xml-unavailable", "parse/unsupported-version"}
 

@@ -171,7 +171,20 @@ def test_empty_file(write_deck, fmt, name):
     need(fmt)
     p = write_deck(name, b"")
     r = run([p])
-    assert hits(r, "parse/empty-file", p), r.findings
+    # a file given by name must be a model: an empty one fails the gate (exit 2), it is not a clean pass
+    assert [f.rule for f in r.findings] == ["parse/not-a-deck"] and "empty" in r.findings[0].message
+    assert exit_code(r, "error") == 2
+
+
+@pytest.mark.parametrize("fmt,inc,main", [
+    ("keyword", "empty.inc", "*INCLUDE, INPUT=empty.inc\n"),
+])
+def test_empty_include_is_a_warning(write_deck, fmt, inc, main):
+    need(fmt)
+    write_deck(inc, b"")
+    p = write_deck("main.inp", main + kw())
+    r = run([p])
+    assert any(f.rule == "parse/empty-file" and f.severity == "warning" for f in r.findings), r.findings
 
 
 @pytest.mark.parametrize("name,text", [
@@ -491,7 +504,8 @@ def test_bad_files_do_not_stop_the_others(write_deck, tmp_path):
     reports = {os.path.basename(f.path): f for f in r.files}
     assert reports["good.inp"].materials and not reports["good.inp"].incomplete
     assert {"parse/binary-file", "parse/not-a-deck", "parse/path-not-found"} <= {f.rule for f in r.general}
-    assert {"empty.inp", "cut.inp", "num.inp", "good.inp"} <= set(reports)
+    assert {"cut.inp", "num.inp", "good.inp"} <= set(reports)
+    assert any(f.rule == "parse/not-a-deck" and f.path.endswith("empty.inp") for f in r.general)
     assert exit_code(r, "error") == 2
 
 

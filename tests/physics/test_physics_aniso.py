@@ -12,8 +12,9 @@ PLIES = {
     "Scotchply 1002": (38.6, 8.27, 0.26, 4.14),
     "AS4/3501-6": (126.0, 11.0, 0.28, 6.6),
 }
-# Check values of Q (GPa) and S (1/TPa): Q11 Q12 Q22 Q66 / S11 S12 S22 S66, physics.md 2.4 (computed there;
-# T300/5208 Q and Scotchply S agree with Tsai & Hahn 1980 / Jones 1999 book values quoted in physics.md 2.4)
+# Check values of Q (GPa) and S (1/TPa): Q11 Q12 Q22 Q66 / S11 S12 S22 S66, computed from the plane-stress reduced
+# stiffness relations (R. M. Jones, Mechanics of Composite Materials, 1999) and the ply data of Tsai & Hahn,
+# Introduction to Composite Materials, 1980 (AS4/3501-6: Soden, Hinton & Kaddour, Compos. Sci. Technol. 58, 1998)
 Q_CHECK = {
     "T300/5208": (181.811, 2.8969, 10.3462, 7.17),
     "Scotchply 1002": (39.1673, 2.1818, 8.3915, 4.14),
@@ -37,7 +38,7 @@ def test_lamina_q_s_and_positive_definite(name):
     q, s = A.lamina_q(v)[0], A.lamina_s(v)[0] * 1000.0   # GPa -> 1/TPa
     np.testing.assert_allclose([q[0, 0], q[0, 1], q[1, 1], q[2, 2]], Q_CHECK[name], rtol=2e-4)
     np.testing.assert_allclose([s[0, 0], s[0, 1], s[1, 1], s[2, 2]], S_CHECK[name], rtol=2e-4)
-    # Q is the inverse of S (plane stress; physics.md 2.3)
+    # Q is the inverse of S (plane stress; Jones, Mechanics of Composite Materials)
     np.testing.assert_allclose(q @ (s / 1000.0), np.eye(3), atol=1e-10)
     assert A.eigen_summary(A.lamina_q(v))["positive_definite"][0]
     assert A.lamina_bounds(v)["pairs"][0, 0] < 1
@@ -46,7 +47,7 @@ def test_lamina_q_s_and_positive_definite(name):
 @pytest.mark.parametrize("name", list(PLIES))
 def test_lamina_nu12_past_bound_fails(name):
     e1, e2, _n, _g = PLIES[name]
-    nu = 1.05 * np.sqrt(e1 / e2)         # past |nu12| < sqrt(E1/E2), physics.md 2.3 (Lempriere 1968)
+    nu = 1.05 * np.sqrt(e1 / e2)         # past |nu12| < sqrt(E1/E2), Lempriere 1968 (AIAA J. 6(11), details from memory)
     v = _lamina(name, nu)
     assert A.lamina_bounds(v)["pairs"][0, 0] > 1
     assert not A.eigen_summary(A.lamina_s(v))["positive_definite"][0]
@@ -57,14 +58,15 @@ AS4_3D = [126.0, 11.0, 11.0, 0.28, 0.28, 0.4, 6.6, 6.6, 11.0 / 2.8]
 
 
 def test_as4_3d_stiffness_and_eigenvalues():
-    # AS4/3501-6 transversely isotropic, C and eigenvalues computed in physics.md 2.4
+    # AS4/3501-6 transversely isotropic (Soden, Hinton & Kaddour 1998; nu23 = 0.4 from memory), C and eigenvalues
+    # computed from the orthotropic compliance (Jones, Mechanics of Composite Materials, from memory)
     c = A.stiffness_engineering(AS4_3D)[0]
     np.testing.assert_allclose([c[0, 0], c[0, 1], c[0, 2], c[1, 1], c[2, 2], c[1, 2], c[3, 3], c[4, 4], c[5, 5]],
                                [128.9418, 5.25318, 5.25318, 13.30926, 13.30926, 5.45211, 6.6, 6.6, 3.92857],
                                rtol=1e-5)
     np.testing.assert_allclose(np.linalg.eigvalsh(c), [3.92857, 6.6, 6.6, 7.85714, 18.2627, 129.4405], rtol=1e-5)
     b = A.engineering_bounds(AS4_3D)
-    np.testing.assert_allclose(b["determinant"][0], 0.820836, rtol=1e-5)   # physics.md 2.4
+    np.testing.assert_allclose(b["determinant"][0], 0.820836, rtol=1e-5)   # computed, Lempriere 1968 condition 3
     assert np.all(b["pairs"] < 1) and np.all(b["moduli"] > 0)
     # closed-form C11 of Jones 1999 2.2 against the matrix inverse
     e1, e2, e3, n12, n13, n23 = AS4_3D[:6]
@@ -75,7 +77,7 @@ def test_as4_3d_stiffness_and_eigenvalues():
 
 
 def test_failing_3d_vectors():
-    # physics.md 2.4 failing vectors (computed there)
+    # failing vectors violating Lempriere 1968 (computed)
     v = list(AS4_3D)
     v[5] = 0.99
     b = A.engineering_bounds(v)
@@ -99,12 +101,12 @@ ANISO_INP = [300000, 110000, 320000, 130000, 140000, 350000, 160000, 170000, 180
 
 
 def test_corpus_aniso_vector_eigenvalues():
-    # corpus deck aniso.inp values; eigenvalues "computed in physics.md" 2.1
+    # corpus deck aniso.inp values; eigenvalues computed with a symmetric eigensolver (not published values)
     c = A.stiffness_aniso(ANISO_INP)[0]
     ev = np.linalg.eigvalsh(c)
     assert ev[0] == pytest.approx(75478.05, abs=0.01)
     assert ev[-1] == pytest.approx(1459906.35, abs=0.01)
-    # column-by-column order (CalculiX manual *ELASTIC, physics.md 2.1): D1112 is the 7th value,
+    # column-by-column order (CalculiX User's Manual, *ELASTIC TYPE=ANISO): D1112 is the 7th value,
     # D1212 the 10th, D1323 the 20th
     assert c[0, 3] == 160000 and c[3, 3] == 390000 and c[4, 5] == 290000 and c[2, 4] == 220000
     summ = A.eigen_summary(A.stiffness_aniso(ANISO_INP))
@@ -113,7 +115,7 @@ def test_corpus_aniso_vector_eigenvalues():
 
 
 def test_ccx_to_mat9_order_swap():
-    # CalculiX order (11,22,33,12,13,23) vs MAT9 (x,y,z,xy,yz,zx): positions 5 and 6 swap (physics.md 2.1)
+    # CalculiX order (11,22,33,12,13,23) vs MAT9 (x,y,z,xy,yz,zx): positions 5 and 6 swap (CalculiX User's Manual *ELASTIC; MYSTRAN User Manual MAT9)
     c = A.stiffness_aniso(ANISO_INP)
     g = A.mat9_values_from_ccx(c)[0]
     # MAT9 G15 is the (x, yz) term = CalculiX D1123 (16th ANISO value); G16 (x, zx) = D1113 (11th)
@@ -125,7 +127,7 @@ def test_ccx_to_mat9_order_swap():
 
 
 def test_ortho_manual_example_inversion():
-    # CalculiX manual TYPE=ORTHO example; inversion computed in physics.md 2.1
+    # CalculiX manual TYPE=ORTHO example; inversion computed from the orthotropic compliance (Jones)
     c = A.stiffness_ortho([500000, 157200, 400000, 157200, 157200, 300000, 126200, 126200, 126200])
     e = A.engineering_from_stiffness(c)
     assert e["E1"][0] == pytest.approx(399999.3, abs=0.1)

@@ -8,7 +8,7 @@ from linter.physics import mesh as M
 
 
 @pytest.mark.parametrize("E, nu, rho, c0, cd, dt", [
-    # physics.md 6.3 check values (computed there; mm-t-s, L_e = 10 mm); formula Belytschko, Liu & Moran 2000 ch. 6
+    # values computed from dt = L_e/c_d (mm-t-s, L_e = 10 mm); formula Belytschko, Liu & Moran 2000 ch. 6 (from memory)
     (210000.0, 0.3, 7.85e-9, 5.172e6, 6.001e6, 1.666e-6),     # STEEL
     (12.0, 0.4995, 1.2e-9, 1.000e5, 1.827e6, 5.474e-6),       # SEAL
     (12.0, 0.3, 1.2e-9, 1.000e5, 1.160e5, 8.619e-5),          # same seal with nu = 0.3
@@ -21,11 +21,11 @@ def test_time_step_check_values(E, nu, rho, c0, cd, dt):
 
 
 def test_speed_ratios_and_hyperelastic_form():
-    # c_d/c0 = sqrt((1-nu)/((1+nu)(1-2nu))): 1.16 at 0.3, 4.14 at 0.49, 18.3 at 0.4995 (physics.md 6.3)
+    # c_d/c0 = sqrt((1-nu)/((1+nu)(1-2nu))): 1.16 at 0.3, 4.14 at 0.49, 18.3 at 0.4995 (computed from the isotropic relations, Mavko et al., Rock Physics Handbook)
     for nu, ratio in ((0.3, 1.16), (0.49, 4.14), (0.4995, 18.3)):
         # quoted to 3 digits there
         assert D.dilatational_speed(1.0, nu, 1.0) / D.bar_speed(1.0, 1.0) == pytest.approx(ratio, abs=0.05)
-    # the hyperelastic form equals the elastic one for K0 = K, mu0 = G (physics.md 6.3)
+    # the hyperelastic form equals the elastic one for K0 = K, mu0 = G (c_d = sqrt((K + 4G/3)/rho), standard isotropic relation)
     E, nu, rho = 12.0, 0.4995, 1.2e-9
     G, K = E / (2 * (1 + nu)), E / (3 * (1 - 2 * nu))
     assert D.hyper_dilatational_speed(K, G, rho) == pytest.approx(D.dilatational_speed(E, nu, rho))

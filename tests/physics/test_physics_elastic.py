@@ -17,7 +17,7 @@ def test_structural_steel_against_handbook():
     # EN 1993-1-1 clause 3.2.6: E = 210000 N/mm2, nu = 0.3, G = E/(2(1+nu)) "approximately 81000 N/mm2":
     # the standard rounds, so compare within that rounding (80769 vs 81000).
     assert float(c["G"]) == pytest.approx(81000.0, rel=0.005)
-    # exact values: physics.md 1.4 check values, computed from the standard conversion table [S1]
+    # exact values computed from the standard conversion table (Mavko, Mukerji & Dvorkin, The Rock Physics Handbook)
     assert float(c["G"]) == pytest.approx(80769.23, abs=0.01)
     assert float(c["K"]) == pytest.approx(175000.0, rel=1e-9)
     assert float(c["lambda"]) == pytest.approx(121153.85, abs=0.01)
@@ -26,7 +26,7 @@ def test_structural_steel_against_handbook():
 
 
 @pytest.mark.parametrize("E, nu, G, K, lam, M", [
-    # physics.md 1.4 check values (computed there from the standard table [S1])
+    # computed from the standard conversion table (Mavko, Mukerji & Dvorkin, The Rock Physics Handbook)
     (200000.0, 0.3, 76923.08, 166666.67, 115384.62, 269230.77),
     (68900.0, 0.33, 25902.26, 67549.02, 50280.85, 102085.36),   # Al 6061-T6
     (12.0, 0.4995, 4.001334, 4000.0, 3997.332, 4005.335),
@@ -40,7 +40,7 @@ def test_check_values(E, nu, G, K, lam, M):
 
 
 def test_inverse_relations():
-    # physics.md 1.4 inverse checks: (K, G) = (175000, 80769.23) -> E = 210000, nu = 0.3
+    # inverse checks computed from the same table (Mavko et al.): (K, G) = (175000, 80769.23) -> E = 210000, nu = 0.3
     c = el.from_K_G(175000.0, 80769.23)
     assert float(c["E"]) == pytest.approx(210000.0, rel=1e-6)
     assert float(c["nu"]) == pytest.approx(0.3, rel=1e-6)
@@ -53,7 +53,7 @@ def test_inverse_relations():
     assert float(g["E"]) == pytest.approx(210000.0, rel=1e-12)
 
 
-# physics.md 1.2 table of K/G, lambda/G and c_d/c_0 against nu (derived there from the standard relations)
+# K/G, lambda/G and c_d/c_0 against nu, computed from the standard relations (Mavko et al., Rock Physics Handbook)
 KG_TABLE = [(-0.5, 0.167, -0.5, 1.225), (0.0, 0.667, 0.0, 1.0), (0.2, 1.333, 0.667, 1.054),
             (0.25, 1.667, 1.0, 1.095), (0.3, 2.167, 1.5, 1.160), (1 / 3, 2.667, 2.0, 1.225),
             (0.4, 4.667, 4.0, 1.464), (0.45, 9.667, 9.0, 1.948), (0.48, 24.67, 24.0, 2.964),
@@ -81,7 +81,7 @@ def test_vectorised_and_singular():
     assert el.admissible(100.0, nu).tolist() == [True, False, False, False]
     assert el.poisson_in_range(np.array([-1.0, -0.99, 0.0, 0.4999, 0.5])).tolist() == [False, True, True, True, False]
     assert not bool(el.admissible(-1.0, 0.3))
-    # E = 3G is the incompressible limit of the (E, G) pair (physics.md 1.1, singular inputs)
+    # E = 3G is the incompressible limit of the (E, G) pair (singular input of the (E, G) row of the conversion table, Mavko et al.)
     assert math.isinf(float(el.from_E_G(3.0, 1.0)["K"]))
 
 
@@ -105,7 +105,7 @@ def test_round_trips(E, nu):
     assert float(back["nu"]) == pytest.approx(nu, rel=1e-7, abs=1e-9)
     eg = el.from_E_G(E, c["G"])
     assert float(eg["K"]) == pytest.approx(float(c["K"]), rel=1e-6)
-    # M = lambda + 2G and K = lambda + 2G/3 (definitions, physics.md 1.1)
+    # M = lambda + 2G and K = lambda + 2G/3 (definitions; Mavko et al., Rock Physics Handbook)
     assert float(c["M"]) == pytest.approx(float(c["lambda"] + 2 * c["G"]), rel=1e-9, abs=1e-9 * E)
     assert float(c["K"]) == pytest.approx(float(c["lambda"] + 2 * c["G"] / 3), rel=1e-9, abs=1e-9 * E)
 
@@ -139,7 +139,7 @@ def test_derivation_rows_and_density_matching():
 
 
 def test_bulk_density_uses_wtmass(write_deck):
-    # physics.md 1.5: RHO is a weight density when PARAM,WTMASS is not 1 (mass density = WTMASS * RHO);
+    # NASTRAN-95 User's Manual MAT1 remark 7 / MYSTRAN User Manual (mass units): RHO is a weight density when PARAM,WTMASS is not 1 (mass density = WTMASS * RHO);
     # the bulk parser applies the factor once, the derivation must not apply it again
     from linter.check import make_policy
     from linter.config import Config

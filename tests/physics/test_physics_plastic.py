@@ -15,7 +15,7 @@ AL_E = 50 / 0.00069
 
 
 def test_check_values_of_the_conversion():
-    # physics.md 4 check values (computed there): E = 200000, eps_eng = 0.10, sigma_eng = 400
+    # values computed from sigma_t = sigma(1+eps), eps_t = ln(1+eps) (standard conversion, common practice): E = 200000, eps_eng = 0.10, sigma_eng = 400
     st, et = P.eng_to_true(400.0, 0.10)
     assert st == pytest.approx(440.0)
     assert et == pytest.approx(0.0953102, abs=1e-7)
@@ -24,7 +24,7 @@ def test_check_values_of_the_conversion():
 
 
 def test_tangent_and_plastic_modulus_check_values():
-    # physics.md 4 check values: E = 200000, H = 2000 -> E_t = 1980.20; H = 20000 -> E_t = 18181.8
+    # computed from E_t = E H/(E + H) (standard, common practice): E = 200000, H = 2000 -> E_t = 1980.20; H = 20000 -> E_t = 18181.8
     et = P.tangent_from_plastic(200000.0, np.array([2000.0, 20000.0]))
     assert et == pytest.approx([1980.20, 18181.8], abs=0.05)  # quoted to 0.1
     assert P.plastic_from_tangent(200000.0, et) == pytest.approx([2000.0, 20000.0])
@@ -33,7 +33,7 @@ def test_tangent_and_plastic_modulus_check_values():
 
 def test_published_aluminium_curve_to_hardening_table():
     # Points past the proportional limit (242 MPa) of the Dowling 6061-T6 curve, converted with the
-    # standard formulas of physics.md 4 (sigma_t = sigma(1+eps), eps_p = ln(1+eps) - sigma_t/E).
+    # standard conversion (common practice) (sigma_t = sigma(1+eps), eps_p = ln(1+eps) - sigma_t/E).
     s, e = AL_STRESS[5:], AL_STRAIN[5:]
     st, ep = P.eng_to_plastic_table(s, e, AL_E)
     assert st[0] == pytest.approx(242 * 1.00343)
@@ -85,7 +85,7 @@ def test_material_class_from_modulus_and_density():
 @settings(max_examples=60, deadline=None)
 @given(E=st.floats(1.0, 1e12), frac=st.floats(1e-6, 0.999))
 def test_tangent_plastic_round_trip(E, frac):
-    # E_t = E H/(E + H) and H = E E_t/(E - E_t) are inverse (physics.md 4)
+    # E_t = E H/(E + H) and H = E E_t/(E - E_t) are inverse (standard, common practice)
     Et = frac * E
     H = P.plastic_from_tangent(E, Et)
     assert H > 0
@@ -95,7 +95,7 @@ def test_tangent_plastic_round_trip(E, frac):
 @settings(max_examples=60, deadline=None)
 @given(s=st.floats(1.0, 1e4), e=st.floats(0.0, 0.5), E=st.floats(1e3, 1e6))
 def test_true_values_exceed_engineering_in_tension(s, e, E):
-    # in tension sigma_t >= sigma_e and eps_t <= eps_e (standard; physics.md 4 formulas)
+    # in tension sigma_t >= sigma_e and eps_t <= eps_e (follows from the standard conversion; common practice)
     st_, et = P.eng_to_true(s, e)
     assert st_ >= s and et <= e + 1e-15
     assert P.plastic_from_total(et, st_, E) == pytest.approx(et - st_ / E)

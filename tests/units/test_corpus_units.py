@@ -23,7 +23,7 @@ KNOWN_MIXED = {
 
 #: decks whose system is clear from their values (values as written in the deck)
 EXPECTED_SYSTEM = {
-    "channel1.inp": "m-kg-s",        # water *DENSITY 1000., GRAV 9.81 (physics.md 5.2 corpus observations)
+    "channel1.inp": "m-kg-s",        # water *DENSITY 1000., GRAV 9.81 (read from the corpus deck itself)
     "thermomech.inp": "mm-tonne-s",  # *ELASTIC 210000, *DENSITY 7.8E-9, *SPECIFIC HEAT 446.E6 (CalculiX manual mm-N-s)
     "furnace.inp": "m-kg-s",         # *DENSITY 7800., *SPECIFIC HEAT 446. (SI)
 }

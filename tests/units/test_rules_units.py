@@ -2,7 +2,7 @@
 
 Reference values: steel E 210 GPa, rho 7850 kg/m^3, c_p 440 J/(kg K) (EN 1993-1-1 3.2.6,
 EN 1991-1-1 Tab. A.4, EN 1993-1-2 3.4); steel written in mm-tonne-s
-(2.1e5 MPa, 7.85e-9 t/mm^3, 4.4e8 mm^2/(s^2 K), g 9806.65 mm/s^2) from physics.md 5.2.
+(2.1e5 MPa, 7.85e-9 t/mm^3, 4.4e8 mm^2/(s^2 K), g 9806.65 mm/s^2) computed from them by dimensional scaling.
 """
 from __future__ import annotations
 
@@ -30,14 +30,14 @@ def test_rules_are_registered_with_fixed_ids():
 
 
 def test_density_in_si_with_moduli_in_mpa():
-    # E in MPa with density left in kg/m^3 (physics.md 5.3 signature table: c0 off by 10^-6)
+    # E in MPa with density left in kg/m^3 (c0 = sqrt(E/rho) then off by 10^-6, computed)
     found = run(model(material("STEEL", E=210000.0, rho=7850.0), steps=("frequency",)))
     mm = by_rule(found, "units/mismatch")
     assert len(mm) == 1 and mm[0].severity == "error"
     f = mm[0]
     assert f.material == "STEEL" and f.data["quantities"] == ["rho"]
     assert f.data["fits"] == "m-kg-s" and f.data["model"] == "mm-tonne-s"
-    assert f.data["write"]["rho"] == pytest.approx(7.85e-9)    # physics.md 5.2, row mm-t-s
+    assert f.data["write"]["rho"] == pytest.approx(7.85e-9)    # EN 1991-1-1 Tab. A.4 value scaled to mm-t-s
     assert "density 7850 fits kg/m^3" in f.message and "MPa" in f.message and "7.85e-09" in f.message
     assert f.line == 12                                          # the density line
     assert not by_rule(found, "units/undetermined")
@@ -75,7 +75,7 @@ def test_gravity_981_in_mm_tonne_s_model():
     found = run(model(material("S", **STEEL_MM), steps=("static",), gravity=9.81))
     g = by_rule(found, "units/gravity")
     assert len(g) == 1 and g[0].severity == "warning" and g[0].line == 102
-    assert g[0].data["expected"] == pytest.approx(9806.65)     # physics.md 5.2, mm-t-s row
+    assert g[0].data["expected"] == pytest.approx(9806.65)     # standard gravity 9.80665 m/s^2 in mm/s^2
     assert "m-kg-s" in g[0].data["fits"]
     assert "9806.65" in g[0].message
 
@@ -93,7 +93,7 @@ def test_gravity_that_fits_no_system():
 
 
 def test_stray_specific_heat_in_static_model_is_a_note():
-    # c_p 440 J/(kg K) in an mm-tonne-s deck should be 4.4e8 (physics.md 5.2); a static analysis never reads it
+    # c_p 440 J/(kg K) in an mm-tonne-s deck should be 4.4e8 (EN 1993-1-2 3.4 at 20 C, scaled to mm-t-s); a static analysis never reads it
     found = run(model(material("S", **STEEL_MM, c=440.0), steps=("static",)))
     mm = by_rule(found, "units/mismatch")
     assert len(mm) == 1 and mm[0].severity == "note" and mm[0].data["quantities"] == ["c"]
@@ -107,7 +107,7 @@ def test_same_specific_heat_in_transient_heat_model_is_an_error():
 
 
 def test_soft_rubber_is_not_a_unit_slip():
-    # natural rubber C10 0.2, C01 0.05 MPa, rho 930 kg/m^3 (physics.md 5.5) with steel, all in mm-tonne-s
+    # natural rubber C10 0.2, C01 0.05 MPa, rho 930 kg/m^3 (G = 0.5 MPa and rho 910-950 from the ASM natural-rubber data sheet) with steel, all in mm-tonne-s
     rub = material("NR", hyper=("mooney-rivlin", (0.2, 0.05, 0.001)), rho=9.3e-10, line=30)
     found = run(model(material("S", **STEEL_MM), rub, steps=("frequency",)))
     assert not by_rule(found, "units/mismatch") and not by_rule(found, "units/implausible")
@@ -229,7 +229,7 @@ def test_keyword_deck_declared_unknown(write_deck):
 
 
 def test_hyperelastic_constants_in_pa_in_mpa_model():
-    # natural rubber C10 0.2, C01 0.05 MPa, D1 = 2/K with K ~ 2 GPa (physics.md 5.5; K from memory), the whole
+    # natural rubber C10 0.2, C01 0.05 MPa, D1 = 2/K with K ~ 2 GPa (G ~ 0.5 MPa, ASM natural-rubber data sheet; K from memory), the whole
     # block written in Pa (D1 in 1/Pa), density in t/mm^3
     rub = material("NR", hyper=("mooney-rivlin", (0.2e6, 0.05e6, 1e-9)), rho=9.3e-10, line=30)
     found = run(model(material("S", **STEEL_MM), rub, steps=("frequency",)))
@@ -241,15 +241,15 @@ def test_hyperelastic_constants_in_pa_in_mpa_model():
 
 
 def test_weight_density_without_wtmass_is_named():
-    # steel in in-lbf-s: E 3.0458e7 psi (physics.md 5.2); RHO 0.2836 lbf/in^3 is the weight density
+    # steel in in-lbf-s: E 3.0458e7 psi (computed: 210 GPa, EN 1993-1-1 3.2.6, in psi); RHO 0.2836 lbf/in^3 is the weight density
     # (7850 kg/m^3 * 9.80665 m/s^2 in lbf/in^3, pint-checked in test_units_scales via the psi/density scales);
-    # without PARAM,WTMASS 1/386.09 (physics.md 1.5) the solver takes it as mass density
+    # without PARAM,WTMASS 1/386.09 (NASTRAN-95 User's Manual MAT1 remark 7) the solver takes it as mass density
     mats = [material("ST", E=3.0458e7, rho=0.2836), material("AL", E=1.0e7, nu=0.33, rho=2.591e-4, line=30)]
     found = run(model(*mats, steps=("frequency",)))
     mm = by_rule(found, "units/mismatch")
     assert len(mm) == 1 and mm[0].material == "ST" and mm[0].data["quantities"] == ["rho"]
     assert mm[0].data["fits"] == "weight density" and "WTMASS,0.00259" in mm[0].message
-    assert mm[0].data["write"]["rho"] == pytest.approx(7.3454e-4, rel=1e-3)   # physics.md 5.2, in-lbf-s row
+    assert mm[0].data["write"]["rho"] == pytest.approx(7.3454e-4, rel=1e-3)   # 7850 kg/m^3 in lbf s^2/in^4, computed
 
 
 def test_moduli_far_off_in_every_class_are_implausible_not_silent():
@@ -285,7 +285,7 @@ ENDDATA
 
 @pytest.mark.skipif(not BULK, reason="bulk parser not available yet")
 def test_bulk_deck_weight_density_with_wtmass(write_deck):
-    # aluminium: E 1.0e7 psi, RHO 0.1 lbf/in^3 with WTMASS 0.00259 (physics.md 1.5, 5.4)
+    # aluminium: E 1.0e7 psi, RHO 0.1 lbf/in^3 with WTMASS 0.00259 (NASTRAN-95 User's Manual MAT1 remark 7; E from memory)
     rep = _check(write_deck("plate.bdf", PLATE.format(E="1.0E7")))
     assert rep.unit_system["name"] == "in-lbf-s"
     assert [f.rule for f in rep.findings] == []
@@ -299,5 +299,5 @@ def test_bulk_deck_modulus_in_pa_with_psi_density(write_deck):
     mm = [f for f in rep.findings if f.rule == "units/mismatch"]
     assert len(mm) == 1 and mm[0].data["quantities"] == ["rho"] and mm[0].data["fits"] == "in-lbf-s"
     assert mm[0].line == 14 and "WTMASS" in mm[0].message
-    # 0.1 x 0.00259 lbf s^2/in^4 = 2768 kg/m^3 (physics.md 1.5 gives 2769 for WTMASS 0.002591)
+    # 0.1 x 0.00259 lbf s^2/in^4 = 2768 kg/m^3 (computed; WTMASS 0.002591 gives 2769)
     assert mm[0].data["write"]["rho"] == pytest.approx(2768, rel=1e-3)

@@ -51,7 +51,7 @@ def in_system(system, E, nu, rho, k, c, alpha):
 
 
 def rubber(system):
-    # natural rubber (physics.md 5.5, [S18][S13]): G ~ 0.5 MPa (C10 0.2, C01 0.05 MPa), K ~ 2 GPa
+    # natural rubber (ASM data sheet for vulcanised natural rubber; K from memory): G ~ 0.5 MPa (C10 0.2, C01 0.05 MPa), K ~ 2 GPa
     # (from memory) -> D1 = 2/K = 1e-9 1/Pa, rho 930, k 0.14, c_p 2000, alpha 220e-6
     st = (1 * UREG("Pa")).to(PINT_UNITS[system][0]).magnitude
     conv = lambda v, i: (v * UREG(SI[i])).to(PINT_UNITS[system][i]).magnitude  # noqa: E731
@@ -112,7 +112,7 @@ def test_moduli_only_leaves_equivalent_systems():
 
 
 def test_gravity_decides_between_systems_of_equal_stress_unit():
-    # E in MPa and gravity 9806.65 mm/s^2 (physics.md 5.2): mm-tonne-s, not mm-g-ms (9.80665e-3 mm/ms^2)
+    # E in MPa and gravity 9806.65 mm/s^2 (standard gravity 9.80665 m/s^2 in mm-t-s): mm-tonne-s, not mm-g-ms (9.80665e-3 mm/ms^2)
     m = model(material("S", E=210000.0), gravity=9806.65)
     run(m)
     assert m.derived["unit_system"]["name"] == "mm-tonne-s"
@@ -129,7 +129,7 @@ def test_absolute_zero_in_fahrenheit_prefers_imperial():
 
 
 def test_bulk_weight_density_times_wtmass():
-    # RHO 0.1 lbf/in^3 with WTMASS 0.002591 -> 2.591e-4 lbf s^2/in^4 = 2769 kg/m^3 (physics.md 1.5, MYSTRAN decks)
+    # RHO 0.1 lbf/in^3 with WTMASS 0.002591 -> 2.591e-4 lbf s^2/in^4 = 2769 kg/m^3 (WTMASS: NASTRAN-95 User's Manual MAT1 remark 7; value computed; RHO/WTMASS pair as in the MYSTRAN benchmark decks)
     m = model(material("AL", E=1.0e7, nu=0.33, rho=0.1 * 0.002591, wtmass=0.002591), steps=("frequency",))
     found = run(m)
     assert m.derived["unit_system"]["name"] == "in-lbf-s"

@@ -45,6 +45,9 @@ def summary(inf) -> dict:
         out["equivalent"] = [s.name for j, s in enumerate(data.systems)
                              if j != inf.best and _equiv(inf, j)]
     out["evidence"] = sorted(inf.dims)
+    clues = clues_of(inf)
+    if clues:
+        out["clues"] = clues
     if inf.evidence.temperatures:
         out["temperatures"] = list(inf.evidence.temperatures)
     if inf.evidence.absolute_zero is not None:
@@ -52,6 +55,28 @@ def summary(inf) -> dict:
     if inf.declared_unknown:
         out["declared_unknown"] = inf.declared_unknown
         out["known"] = [s.name for s in data.systems]
+    return out
+
+
+def clues_of(inf) -> list[str]:
+    """The evidence beyond the material numbers that weighed in, in words (for the report)."""
+    from .names import name_classes
+
+    data, ev = inf.data, inf.evidence
+    out = []
+    for ms in inf.materials:
+        cls = name_classes(ms.ev.name)
+        if cls:
+            out.append(f"material name {ms.ev.name}: {' or '.join(data.class_names[c] for c in cls)}")
+        period = ms.ev.notes.get("explicit_period")
+        if period and not any(x.startswith("explicit step period") for x in out):
+            out.append(f"explicit step period {period:.4g} (deck time units) against the stable increment")
+    for g, loc in ev.gravity[:3]:
+        out.append(f"gravity {g:.6g} (line {loc.line})" if loc is not None else f"gravity {g:.6g}")
+    if ev.model_size:
+        out.append(f"model size {ev.model_size:.4g} (deck length units)")
+    if ev.temperatures:
+        out.append(f"temperatures {ev.temperatures[0]:.4g}..{ev.temperatures[1]:.4g}")
     return out
 
 
@@ -77,4 +102,9 @@ def derive_units(model, config) -> None:
         idx, conf = material_system(ms, data, inf.ref)
         mat.derived["unit_system"] = {"name": data.systems[idx].name if idx is not None else None,
                                       "confidence": round(conf, 3)}
-    model.derived["units_problems"] = diagnose(inf)
+    floor = 0.2
+    try:
+        floor = float(config.threshold("units.min_confidence")) if config is not None else floor
+    except Exception:   # a configuration without the threshold: the default of thresholds.yaml
+        pass
+    model.derived["units_problems"] = diagnose(inf, floor)

@@ -1,14 +1,16 @@
 """Diagnosis against the reference unit system (declared, else inferred): which quantity of which
 material, or which gravity value, does not fit it, and in which system it would make sense.
 
-A material that the reference system does not explain (misfit above ``material_tol``) is, in order:
-0. explained once its density, which fits no class as written, is divided by g -> mismatch (a weight
-   density, the bulk-deck RHO without PARAM,WTMASS; Nastran PARAM WTMASS definition);
-1. explained as a whole by another system -> mismatch ("material pasted in Pa");
-2. explained after reading one or more quantity groups (moduli, yield, density, conductivity,
-   specific heat, expansion) in another system, the rest staying in the reference -> mismatch naming
-   those quantities, with the value to write;
-3. otherwise -> implausible, naming the quantities outside the bands of its best class.
+A material that the reference system does not explain (misfit above ``material_tol``) may be read as:
+a. its density, which fits no class as written, divided by g -> a weight density (the bulk-deck RHO
+   without PARAM,WTMASS; Nastran PARAM WTMASS definition); a warning unless the system is declared;
+b. a whole material in another system ("material pasted in Pa");
+c. one or more quantity groups (moduli, yield, density, conductivity, specific heat, expansion) in
+   another system, the rest staying in the reference.
+Every reading that explains it is a candidate; they are ranked by how well all its numbers then fit
+(class misfit plus the cost of the slip), and the best one is reported as a mismatch with the value to
+write and its factor (the others in ``data["other_readings"]``). Otherwise -> implausible, naming the
+quantities outside the bands of its best class.
 A material that fits is still checked quantity by quantity (misfit above ``quantity_tol`` ->
 implausible). Severity follows use: a quantity no analysis reads, or a material no element uses,
 gives a note.
@@ -24,7 +26,7 @@ from ...model import Loc
 from ...physics import units as U
 from .evidence import GROUPS, QUANTITY_DIMENSION, WORDS
 from .infer import (DERIVED, Inference, MaterialScore, class_misfit, derived_quantities, equivalent, group_subsets,
-                    si_values, slip_bad)
+                    si_values, slip_bad, weight_density_penalty)
 
 SI_UNIT = {"E": "Pa", "K": "Pa", "yield": "Pa", "rho": "kg/m^3", "k": "W/(m K)", "c": "J/(kg K)",
            "alpha": "1/K", "c0": "m/s", "cd": "m/s", "a": "m^2/s", "rhoc": "J/(m^3 K)"}
@@ -65,9 +67,11 @@ def diagnose_material(inf: Inference, ms: MaterialScore) -> list[Problem]:
     if ms.misfit[ref] <= tol:
         return _implausible(inf, ms, int(ms.best_class[ref]), ref)
     refname = data.systems[ref].name
+    # every reading that explains the material is a candidate; the one that fits best wins
+    candidates = []
     weight = _weight_density(inf, ms)
     if weight is not None:
-        return [weight]
+        candidates.append(weight)
     gap = float(data.scoring["slip_min_decades"])
     alts = [s for s in range(len(data.systems))
             if ms.misfit[s] <= tol and ms.misfit[ref] - ms.misfit[s] >= gap and not equivalent(data, s, ref, ms.dims)]
@@ -80,19 +84,44 @@ def diagnose_material(inf: Inference, ms: MaterialScore) -> list[Problem]:
         msg = (f"material {ev.name}: its values fit {data.systems[alt].name} ({fits}: a {cls}) "
                f"but the model is in {refname}: in {refname} write {writes}")
         q0 = dimq[0]
-        return [Problem("mismatch", _sev(ev, dimq), msg, ev.locs.get(q0, ev.loc), ev.name,
-                        {"quantities": dimq, "fits": data.systems[alt].name, "model": refname, "class": cls,
-                         "write": {q: _write(ev, q, alt, ref, data) for q in dimq}})]
+        candidates.append((float(ms.misfit[alt]) + float(data.scoring["slip_penalty"]), Problem(
+            "mismatch", _sev(ev, dimq), msg, ev.locs.get(q0, ev.loc), ev.name,
+            {"quantities": dimq, "fits": data.systems[alt].name, "model": refname, "class": cls,
+             "write": {q: _write(ev, q, alt, ref, data) for q in dimq}})))
     # the moduli may be the slipped group when they fit no class as written, or, loosely (more than
     # one decade off the class of the rest), when no other material's moduli fit the reference
     anchored = any(o.ev.key != ev.key and "E" in o.ev.values and o.misfit[ref] <= tol for o in inf.materials)
     found = _split(inf, ms, loose_moduli=not anchored)
     if found is not None:
-        return [found]
+        candidates.append(found)
+    if candidates:
+        return [_ranked(candidates, ev)]
     return _implausible(inf, ms, int(ms.best_class[ref]), ref)
 
 
-def _split(inf: Inference, ms: MaterialScore, loose_moduli: bool = False) -> Optional[Problem]:
+def _ranked(candidates: list, ev) -> Problem:
+    """The best-fitting reading (lowest cost), with its factor, and the others it was ranked against."""
+    candidates.sort(key=lambda c: c[0])
+    cost, best = candidates[0]
+    factors = {q: v / ev.values[q] for q, v in best.data.get("write", {}).items() if ev.values.get(q)}
+    if factors:
+        best.message += " (" + ", ".join(f"{WORDS.get(q, q)} x {f:.4g}" for q, f in factors.items()) + ")"
+    from .infer import load_data
+    from .names import name_classes
+
+    hinted = name_classes(ev.name)
+    if hinted:
+        names = " or ".join(load_data().class_names[c] for c in hinted)
+        best.message += f"; the name {ev.name} says {names}"
+    best.data["factor"] = factors
+    best.data["fit"] = round(cost, 3)
+    if len(candidates) > 1:
+        best.data["other_readings"] = [{"fits": p.data.get("fits"), "write": p.data.get("write"), "fit": round(c, 3)}
+                                       for c, p in candidates[1:]]
+    return best
+
+
+def _split(inf: Inference, ms: MaterialScore, loose_moduli: bool = False) -> Optional[tuple[float, Problem]]:
     data, ref, ev = inf.data, inf.ref, ms.ev
     tol = float(data.scoring["material_tol"])
     groups = [g for g in GROUPS if any(q in ev.values and QUANTITY_DIMENSION[q] for q in GROUPS[g])]
@@ -128,7 +157,7 @@ def _split(inf: Inference, ms: MaterialScore, loose_moduli: bool = False) -> Opt
                 best = (cost, subset, qs, alt, c)
     if best is None:
         return None
-    _cost, subset, qs, alt, c = best
+    cost, subset, qs, alt, c = best
     refname, altname = data.systems[ref].name, data.systems[alt].name
     rest = [q for q in ev.values if QUANTITY_DIMENSION[q] and q not in qs]
     moduli_rest = any(q in ("E", "K") for q in rest)
@@ -151,9 +180,10 @@ def _split(inf: Inference, ms: MaterialScore, loose_moduli: bool = False) -> Opt
         msg += f" (density = RHO {ev.notes.get('RHO', float('nan')):.4g} x WTMASS {wtm:.4g})"
     # it matters when the analysis reads both sides of the disagreement
     sev = "error" if _sev(ev, qs) == "error" and _sev(ev, rest) == "error" else "note"
-    return Problem("mismatch", sev, msg, ev.locs.get(qs[0], ev.loc), ev.name,
-                   {"quantities": qs, "groups": list(subset), "fits": altname, "model": refname,
-                    "class": data.class_names[c], "write": {q: _write(ev, q, alt, ref, data) for q in qs}})
+    return cost + float(data.scoring["slip_penalty"]), Problem(
+        "mismatch", sev, msg, ev.locs.get(qs[0], ev.loc), ev.name,
+        {"quantities": qs, "groups": list(subset), "fits": altname, "model": refname,
+         "class": data.class_names[c], "write": {q: _write(ev, q, alt, ref, data) for q in qs}})
 
 
 def _groups_bad(subset, bad: dict, ev) -> bool:
@@ -233,15 +263,25 @@ def diagnose_gravity(inf: Inference) -> list[Problem]:
     return out
 
 
-def diagnose(inf: Inference) -> list[Problem]:
+def diagnose(inf: Inference, floor: float = 0.0) -> list[Problem]:
+    """The problems against the reference system. When the system was inferred with a confidence below
+    ``floor``, a problem that the runner-up system would not raise is marked ``decided_by_guess``."""
     out = []
+    guess = (not inf.declared and inf.ref is not None and inf.runner_up is not None and inf.confidence < floor)
+    other = replace(inf, ref=inf.runner_up) if guess else None
     for ms in inf.materials:
-        out.extend(diagnose_material(inf, ms))
+        found = diagnose_material(inf, ms)
+        if guess and found:
+            kinds = {p.kind for p in diagnose_material(other, ms)}
+            for p in found:
+                if p.kind not in kinds:
+                    p.data["decided_by_guess"] = True
+        out.extend(found)
     out.extend(diagnose_gravity(inf))
     return out
 
 
-def _weight_density(inf: Inference, ms: MaterialScore) -> Optional[Problem]:
+def _weight_density(inf: Inference, ms: MaterialScore) -> Optional[tuple[float, Problem]]:
     """The material fits the reference once its density is divided by g: RHO is a weight density."""
     data, ref, ev = inf.data, inf.ref, ms.ev
     if "rho" not in ev.values or not slip_bad(ev, data)["rho"][ref]:
@@ -256,9 +296,15 @@ def _weight_density(inf: Inference, ms: MaterialScore) -> Optional[Problem]:
     msg = (f"material {ev.name}: density {ev.values['rho']:.4g} fits as a weight density (force per volume), "
            f"not a mass density, in {data.systems[ref].name}: the mass density is {mass:.4g} (divided by "
            f"g = {g:.6g}); bulk decks: PARAM,WTMASS,{1 / g:.6g} converts RHO")
-    return Problem("mismatch", _sev(ev, ["rho"]), msg, ev.locs.get("rho", ev.loc), ev.name,
-                   {"quantities": ["rho"], "fits": "weight density", "model": data.systems[ref].name,
-                    "class": data.class_names[c], "write": {"rho": mass}, "wtmass": 1 / g})
+    # one number read as a weight density: an error only against a declared system (test decks often
+    # carry a placeholder density); otherwise a warning
+    sev = _sev(ev, ["rho"])
+    if not inf.declared:
+        sev = "warning" if sev == "error" else sev
+    return float(pc[c]) + weight_density_penalty(ev, data), Problem(
+        "mismatch", sev, msg, ev.locs.get("rho", ev.loc), ev.name,
+        {"quantities": ["rho"], "fits": "weight density", "model": data.systems[ref].name,
+         "class": data.class_names[c], "write": {"rho": mass}, "wtmass": 1 / g})
 
 
 def _weight_density_hint(inf: Inference, ev, ref: int, c: int) -> str:

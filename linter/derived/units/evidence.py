@@ -48,7 +48,8 @@ class MaterialEvidence:
     notes: dict[str, float] = field(default_factory=dict)
 
     def signature(self) -> tuple:
-        return tuple(sorted((q, v, self.used.get(q, True)) for q, v in self.values.items())) + (self.assigned,)
+        return tuple(sorted((q, v, self.used.get(q, True)) for q, v in self.values.items())) + (
+            self.assigned, self.name.lower(), tuple(sorted(self.notes.items())))
 
 
 @dataclass
@@ -230,4 +231,16 @@ def model_evidence(model: DeckModel) -> ModelEvidence:
              if r.temperature is not None and math.isfinite(r.temperature)]
     temps += [ld.value for ld in model.initial_temperatures if ld.value is not None and math.isfinite(ld.value)]
     trange = (float(min(temps)), float(max(temps))) if temps else None
+    explicit = _explicit_period(model)
+    if explicit and el_size:
+        for ev in mats:
+            if ev.assigned and "E" in ev.values and "rho" in ev.values:
+                ev.notes["explicit_period"], ev.notes["explicit_length"] = explicit, el_size
     return ModelEvidence(mats, gravity, size, el_size, az, trange, needs)
+
+
+def _explicit_period(model: DeckModel) -> Optional[float]:
+    """The shortest period of the deck's explicit dynamic steps (deck time units), when written."""
+    periods = [p.options.get("period") for _s, p in model.procedures() if p.kind == "dynamic-explicit"]
+    periods = [float(t) for t in periods if _finite(t) and t > 0]
+    return min(periods) if periods else None

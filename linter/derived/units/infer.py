@@ -7,13 +7,22 @@ Definitions (all numbers in ``linter/data/units.yaml``):
   ``nu_step``). Capped at ``quantity_cap``. Derived invariants (c0 = sqrt(E/rho), cd = sqrt(M/rho),
   a = k/(rho c), rho c) are scored the same way with weight ``derived_weight``; quantities the
   analyses do not read get weight ``unused_weight``.
-* **Material misfit** M(s) = min over classes c of [prior_c + sum_q w_q d_q(s, c)]: every material is
-  judged against every class and the best is kept, so a soft rubber is read as a rubber, not as a slip.
+* **Material misfit** M(s) = min over classes c of [prior_c + name_c + sum_q w_q d_q(s, c) + t(s)]: every
+  material is judged against every class and the best is kept, so a soft rubber is read as a rubber, not
+  as a slip. Unusual classes (rubber, foam) carry a prior, so that a slip in a metal is not explained away
+  as a foam of another system. name_c: a material name that says its class (``names`` in units.yaml,
+  ``names.py``) adds ``name_weight`` to every other class and waives the named class's prior. t(s): an
+  explicit dynamic step whose period is shorter than ``explicit_min_increments`` stable increments
+  L_e / c_d (c_d of the material read in s) costs ``explicit_time_weight`` per decade.
 * **Model score** T(s) = prior_s + sum_m u_m min(R_m(s), material_cap) + gravity, mesh-size and
   absolute-zero misfits, where R_m = M_m, except for a material that no single system explains: then
   R_m(s) = min(M_m(s), slip_penalty + misfit with one or more non-modulus groups read in another system),
   counting only slips that explain the material (misfit <= material_tol) and move values that lie at least
-  ``slip_min_decades`` outside every band as written (the moduli anchor the system). u_m = 1, or ``unused_weight`` for a material no element uses.
+  ``slip_min_decades`` outside every band as written (of the named class, when the name says one); each
+  further group costs ``slip_extra_group``, the moduli ``moduli_slip_extra`` (they usually anchor the
+  system). A density read as a weight density costs ``weight_density_penalty`` (``_bulk`` for a bulk RHO
+  without PARAM,WTMASS) instead of slip_penalty. Slip readings are also tried when no system fits the
+  material within ``clean_fit``. u_m = 1, or ``unused_weight`` for a material no element uses.
 * The inferred system is argmin T. Systems that scale every quantity present in the evidence the same
   way are *equivalent* (the evidence cannot tell them apart); the **margin** is T of the best
   non-equivalent system minus T of the best, and **confidence** = margin / (1 + margin) (0: a tie, 0.5:
@@ -33,6 +42,7 @@ import numpy as np
 from ...physics import units as U
 from ...safe_yaml import load_package_yaml
 from .evidence import GROUPS, QUANTITY_DIMENSION, MaterialEvidence, ModelEvidence
+from .names import name_classes
 
 BASE = ("E", "K", "yield", "rho", "k", "c", "alpha")
 DERIVED = ("c0", "cd", "a", "rhoc")
@@ -50,6 +60,8 @@ class UnitData:
     scoring: dict
     #: group -> indices of the systems a slip of that group may come from
     slip_sources: dict = field(default_factory=dict)
+    #: class index -> name entries that say a material is of that class (units.yaml ``names``)
+    names: dict = field(default_factory=dict)
     #: dimension -> scale factors (filled on first use by ``scales``)
     _scales: dict = field(default_factory=dict, compare=False, repr=False)
 
@@ -96,7 +108,9 @@ def load_data() -> UnitData:
     prior = np.array([float(classes[c].get("prior", 0.0)) for c in names])
     index = {s.name: i for i, s in enumerate(systems)}
     sources = {g: tuple(index[n] for n in raw.get("slip_sources", {}).get(g, index)) for g in GROUPS}
-    return UnitData(tuple(systems), names, prior, lo, hi, raw["model"], raw["scoring"], sources)
+    hints = {names.index(c): tuple(str(w).lower() for w in ws) for c, ws in (raw.get("names") or {}).items()
+             if c in names}
+    return UnitData(tuple(systems), names, prior, lo, hi, raw["model"], raw["scoring"], sources, hints)
 
 
 # --------------------------------------------------------------------------- material scoring
@@ -153,12 +167,35 @@ def quantity_terms(ev: MaterialEvidence, si: dict[str, np.ndarray], data: UnitDa
 
 
 def class_misfit(ev, data, moved=None) -> np.ndarray:
-    """(C, S): prior of the class + sum of quantity terms."""
-    terms = quantity_terms(ev, si_values(ev, data, moved), data)
+    """(C, S): prior of the class + name evidence + sum of quantity terms + explicit-step time."""
+    si = si_values(ev, data, moved)
+    terms = quantity_terms(ev, si, data)
     total = np.zeros((len(data.class_names), len(data.systems))) + data.class_prior[:, None]
+    hinted = name_classes(ev.name)
+    if hinted:   # the name says the class: the others cost name_weight, the named one loses its prior
+        other = np.ones(len(data.class_names), dtype=bool)
+        other[list(hinted)] = False
+        total[other] += float(data.scoring["name_weight"])
+        total[~other] -= data.class_prior[~other][:, None]
     for t in terms.values():
         total += t
+    total += explicit_misfit(ev, si, data)[None, :]
     return total
+
+
+def explicit_misfit(ev, si: dict, data) -> np.ndarray:
+    """(S,): an explicit step whose period is shorter than ``explicit_min_increments`` stable increments
+    (L_e / c_d, with c_d from the material read in each system) costs ``explicit_time_weight`` per decade."""
+    period, length = ev.notes.get("explicit_period"), ev.notes.get("explicit_length")
+    if not period or not length or "E" not in si or "rho" not in si:
+        return np.zeros(len(data.systems))
+    nu = si.get("nu", np.full(len(data.systems), 0.3))
+    cd = U.bar_speed(U.p_wave_modulus(si["E"], nu), si["rho"])
+    with np.errstate(divide="ignore", invalid="ignore"):
+        n = period * data.scales("time") * cd / (length * data.scales("length"))
+    need = float(data.model["explicit_min_increments"])
+    d = np.where(np.isfinite(n) & (n > 0), np.maximum(0.0, np.log10(need / np.where(n > 0, n, 1.0))), 0.0)
+    return float(data.scoring["explicit_time_weight"]) * np.minimum(d, float(data.scoring["quantity_cap"]))
 
 
 @dataclass
@@ -178,31 +215,44 @@ def score_material(ev: MaterialEvidence, data: UnitData) -> MaterialScore:
     tol = float(data.scoring["material_tol"])
     consistent = bool(np.nanmin(mis) <= tol) if ev.values else True
     reading = mis.copy()
-    if not consistent:
+    if not consistent or np.nanmin(mis) > float(data.scoring["clean_fit"]):
         # no single system explains the material: in each system s, read it as carrying a unit slip in
         # a group other than the moduli (the moduli anchor the system) when that explains it fully
         # (misfit <= material_tol) and the slipped values are far outside every band; cost slip_penalty
         pen = float(data.scoring["slip_penalty"])
         bad = slip_bad(ev, data)
-        groups = [g for g in GROUPS if g != "moduli" and any(q in ev.values for q in GROUPS[g])]
+        moduli_may_slip = "E" in bad
+        # the moduli anchor the system, unless they fit no class at all as written (psi typed into a Pa
+        # model): then they may be the slipped group too (only a value far outside every band moves)
+        groups = [g for g in GROUPS if (g != "moduli" or moduli_may_slip) and any(q in ev.values for q in GROUPS[g])]
         best = np.full_like(mis, np.inf)
         for subset in group_subsets(groups):
             qs = [q for g in subset for q in GROUPS[g] if q in ev.values]
             ok = np.all([np.any([bad[q] for q in GROUPS[g] if q in bad], axis=0) for g in subset], axis=0)
             for alt in set.intersection(*(set(data.slip_sources[g]) for g in subset)):
                 m = class_misfit(ev, data, {q: alt for q in qs}).min(axis=0)
-                best = np.where(ok & (m <= tol), np.minimum(best, m), best)
+                extra = float(data.scoring["slip_extra_group"]) * (len(subset) - 1) + \
+                    (float(data.scoring["moduli_slip_extra"]) if "moduli" in subset else 0.0)
+                best = np.where(ok & (m <= tol), np.minimum(best, m + extra), best)
+        reading = np.minimum(mis, best + pen)
         if "rho" in ev.values:
             # a weight density taken as mass density (bulk RHO without PARAM,WTMASS): rho / g of the system
+            wpen = weight_density_penalty(ev, data)
             g_sys = float(data.model["gravity"]) / data.scales("acceleration")
             for i in np.flatnonzero(bad["rho"]):
                 trial = replace(ev, values={**ev.values, "rho": ev.values["rho"] / g_sys[i]})
                 m = float(class_misfit(trial, data)[:, i].min())
                 if m <= tol:
-                    best[i] = min(best[i], m)
-        reading = np.minimum(mis, best + pen)
+                    reading[i] = min(reading[i], m + wpen)
     dims = frozenset(QUANTITY_DIMENSION[q] for q in ev.values if QUANTITY_DIMENSION[q])
     return MaterialScore(ev, pc, mis, pc.argmin(axis=0), reading, consistent, dims)
+
+
+def weight_density_penalty(ev: MaterialEvidence, data: UnitData) -> float:
+    """Cost of reading the density as a weight density: low for a bulk RHO without PARAM,WTMASS."""
+    sc = data.scoring
+    bulk_plain = "RHO" in ev.notes and ev.notes.get("WTMASS", 1.0) == 1.0
+    return float(sc["weight_density_penalty_bulk"] if bulk_plain else sc["weight_density_penalty"])
 
 
 def slip_bad(ev: MaterialEvidence, data: UnitData) -> dict[str, np.ndarray]:
@@ -210,6 +260,11 @@ def slip_bad(ev: MaterialEvidence, data: UnitData) -> dict[str, np.ndarray]:
     band for every quantity given."""
     qtol = float(data.scoring["slip_min_decades"])
     fit = np.all([~np.isnan(data.lo[q]) for q in ev.values], axis=0)
+    hinted = name_classes(ev.name)
+    if hinted:          # a name that says the class: judged against that class only
+        named = np.zeros_like(fit)
+        named[list(hinted)] = True
+        fit = fit & named if (fit & named).any() else fit
     si = si_values(ev, data)
     return {q: np.all(U.decades_outside(si[q][None, :], data.lo[q][fit][:, None], data.hi[q][fit][:, None]) > qtol,
                       axis=0) for q in si if q != "nu"}

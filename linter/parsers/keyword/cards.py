@@ -23,11 +23,30 @@ PROCEDURE_CARDS = {
 }
 
 
+#: procedure kinds whose first data line is "initial increment, step period, ..." (CCX-UM *DYNAMIC,
+#: *HEAT TRANSFER, *COUPLED TEMPERATURE-DISPLACEMENT)
+TIMED_KINDS = ("dynamic-explicit", "dynamic-implicit", "heat-transient", "coupled-transient")
+
+
+def step_times(rd, start: int, end: int, first_line: int) -> dict:
+    """``{"increment", "period"}`` from the first data line of a timed procedure (what is readable)."""
+    for ln in rd.lines(start, end, first_line):
+        out = {}
+        for name, f in zip(("increment", "period"), ln.fields[:2]):
+            v = to_float(f)
+            if v is not None and math.isfinite(v) and v > 0:
+                out[name] = v
+        return out
+    return {}
+
+
 def procedure_kind(kw: KeywordLine) -> str:
     kind = PROCEDURE_CARDS[kw.key]
     steady = "STEADYSTATE" in kw.params
     if kw.key == "DYNAMIC" and "EXPLICIT" in kw.params:
         return "dynamic-explicit"
+    if kw.key == "HEATTRANSFER" and "FREQUENCY" in kw.params:
+        return "heat-frequency"
     if kw.key == "HEATTRANSFER" and steady:
         return "heat-steady"
     if kw.key == "COUPLEDTEMPERATURE-DISPLACEMENT" and steady:

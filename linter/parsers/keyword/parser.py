@@ -21,7 +21,7 @@ from ..includes import IncludeTracker
 from ...model import DeckModel, Include, Loc, Material, Procedure, Unchecked, norm_key
 from . import DEFAULT_DIALECT, FORMAT
 from ..sources import SourceError, read_deck_bytes
-from . import cards
+from . import cards, keywords
 from . import mesh
 from .lex import KeywordLine, Reader, parse_keyword_line
 from .materials import MATERIAL_CARDS, read_material_card
@@ -129,6 +129,8 @@ def sniff(head: bytes) -> float:
     if not kws:
         return 0.05 if any(ln.startswith(b"**") for ln in lines) else 0.0
     names = {re.sub(rb"[\s,].*", b"", k[1:].upper().replace(b" ", b"")) for k in kws}
+    if not any(n.decode("latin-1") in keywords.CALCULIX_KEYWORDS for n in names):
+        return 0.1           # lines that start with '*' but no keyword the solver knows: not a deck
     strong = {b"NODE", b"ELEMENT", b"MATERIAL", b"ELASTIC", b"STEP", b"HEADING", b"INCLUDE", b"SOLIDSECTION",
               b"NSET", b"ELSET", b"DENSITY", b"BOUNDARY", b"SHELLSECTION", b"STATIC"}
     hits = len(names & strong)
@@ -185,6 +187,8 @@ class _Parser:
         self.material: Optional[Material] = None
         self.step = None
         self.last_kw: Optional[KeywordLine] = None
+        self.prev_kw: Optional[KeywordLine] = None
+        self.modes_from: Optional[str] = None     # the kind of the last eigenmode step
         self.unknown: dict[str, list] = {}
         self.elsets_by_card: set[str] = set()
         self.model.extras["encoding"] = {}
@@ -264,6 +268,7 @@ class _Parser:
         ``continuation``: the data of ``kw`` goes on in an included file (``rd``)."""
         key = kw.key
         model = self.model
+        self.prev_kw = self.last_kw if not continuation else self.prev_kw
         if key != "INCLUDE":
             self.last_kw = kw
         if continuation:
@@ -282,7 +287,13 @@ class _Parser:
         if key == "INCLUDE":                  # inlined by the solver: an open material block goes on
             self.include(rd, kw)
             return
-        self.material = None
+        if self.material is not None and keywords.STRAY_DATA.match(key):
+            pass          # a data line written with a leading '*': ccx skips it, the material stays open
+        elif self.material is not None and self.dialect == "calculix" and not keywords.is_known(key) \
+                and key not in KNOWN_SKIPPED:
+            pass          # ccx skips a card it cannot interpret; later material cards still apply
+        else:
+            self.material = None
         if key == "MATERIAL":
             self.open_material(rd, kw)
         elif key == "NODE":
@@ -305,7 +316,7 @@ class _Parser:
                 rd.issue("misplaced-card", "*END STEP without an open *STEP", kw.loc.line)
             self.step = None
         elif key in cards.PROCEDURE_CARDS:
-            self.procedure(rd, kw)
+            self.procedure(rd, kw, start, end, first_line)
         elif key == "DLOAD":
             if self.step is None:
                 rd.issue("misplaced-card", "*DLOAD outside a step", kw.loc.line)
@@ -324,6 +335,7 @@ class _Parser:
         elif key == "PHYSICALCONSTANTS":
             cards.read_physical_constants(rd, kw, model)
         elif key not in KNOWN_SKIPPED:
+            self.unknown_keyword(rd, kw, rd.data[:max(0, start - 1)].rsplit(b"\n", 1)[-1])
             seen = self.unknown.get(key)
             if seen is None:
                 entry = Unchecked(what=kw.written.upper(), loc=kw.loc, reason="")
@@ -331,6 +343,10 @@ class _Parser:
                 model.unchecked.append(entry)
             else:
                 seen[1] += 1
+
+    def unknown_keyword(self, rd: Reader, kw: KeywordLine, raw: bytes) -> None:
+        keywords.report_unknown(rd, kw, raw, self.prev_kw, self.model.issues, self.dialect,
+                                self.material.name if self.material else None)
 
     def continue_card(self, rd: Reader, kw: KeywordLine, start: int, end: int, first_line: int,
                       nlines: int) -> None:
@@ -367,12 +383,19 @@ class _Parser:
             self.model.materials[mat.key] = mat
         self.material = mat
 
-    def procedure(self, rd: Reader, kw: KeywordLine) -> None:
+    def procedure(self, rd: Reader, kw: KeywordLine, start: int = 0, end: int = 0, first_line: int = 0) -> None:
         if self.step is None:
             rd.issue("misplaced-card", f"{kw.written} outside a *STEP ... *END STEP block", kw.loc.line)
             return
         opts = {k: kw.params[k] for k in kw.order}
-        self.step.procedures.append(Procedure(cards.procedure_kind(kw), kw.written, kw.loc, opts))
+        kind = cards.procedure_kind(kw)
+        if kind in ("frequency", "complex-frequency", "heat-frequency"):
+            self.modes_from = kind
+        elif kind in ("modal-dynamic", "steady-state-dynamics") and self.modes_from == "heat-frequency":
+            kind = "scalar-modal"   # works on the modes of the scalar field (ccx: acoustic analogy)
+        if kind in cards.TIMED_KINDS and end > start:
+            opts.update(cards.step_times(rd, start, end, first_line))
+        self.step.procedures.append(Procedure(kind, kw.written, kw.loc, opts))
 
     def include(self, rd: Reader, kw: KeywordLine) -> None:
         written = kw.get("INPUT")
