@@ -11,6 +11,7 @@ The same string goes into the JSON report (``fingerprint``), the baseline file a
 """
 from __future__ import annotations
 
+import bisect
 import hashlib
 import json
 import os
@@ -67,7 +68,8 @@ def line_texts(path: str, wanted: set[int]) -> dict[int, str]:
     out: dict[int, str] = {}
     if not wanted:
         return out
-    last = max(wanted)
+    order = sorted(wanted)
+    last = order[-1]
     n, rest = 0, b""
     try:
         with open(path, "rb") as fh:
@@ -81,7 +83,8 @@ def line_texts(path: str, wanted: set[int]) -> dict[int, str]:
                 else:
                     rest = b""
                     k = data.count(b"\n") + 1      # the last line has no newline
-                if any(n < w <= n + k for w in wanted):      # split only the blocks holding a wanted line
+                at = bisect.bisect_right(order, n)
+                if at < len(order) and order[at] <= n + k:      # split only the blocks holding a wanted line
                     for i, raw in enumerate(data.split(b"\n")[:k], start=n + 1):
                         if i in wanted:
                             out[i] = raw.decode("utf-8", "replace")
