@@ -13,7 +13,7 @@ def cat() -> Catalogue:
 
 # Grades of volumetric locking as nu -> 0.5. Source: CalculiX User's Manual, "Element Types"
 # (C3D8 "behave badly for isochoric material behavior", C3D20 "to a much lesser extent",
-# C3D20R "performs well", C3D8I "much reduced"), as tabulated in formats.md section 3;
+# C3D20R "performs well", C3D8I "much reduced"; ccx source elements.f, e_c3d.f for the expansion);
 # the 2D elements behave like the 3D element they are expanded into (same source).
 SEVERE = ["C3D8", "C3D4", "C3D6", "CPE4", "CPE3", "CAX4", "CAX3"]
 MILD = ["C3D20", "CPE8", "CAX8"]
@@ -50,7 +50,7 @@ def test_integration_and_order_of_key_types(cat):
 
 
 def test_uncertain_entries_say_so(cat):
-    # formats.md 3: the manual is silent on C3D10/C3D15 with nearly incompressible material
+    # CalculiX User's Manual, Element Types: the manual is silent on C3D10/C3D15 with nearly incompressible material
     for name in ("C3D10", "C3D10T", "C3D15"):
         tech = cat.get(name, "calculix")
         assert "uncertain" in tech.note

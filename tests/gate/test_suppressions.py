@@ -209,3 +209,21 @@ def test_json_and_sarif_keep_suppressed_findings(tmp_path, capsys, sarif_validat
     assert r["suppressions"][0]["kind"] == "inSource" and r["suppressions"][0]["justification"] == "acoustic gas"
     assert main(["check", str(p), "--units", "mm-tonne-s"]) == 0
     assert "1 suppressed by comments (not counted)" in capsys.readouterr().out
+
+
+def test_directives_are_found_in_any_block_with_their_line(tmp_path, monkeypatch):
+    """Small blocks so that most hold no comment prefix; the lines are counted by hand (splitlines)."""
+    from linter import suppressions
+
+    monkeypatch.setattr(suppressions, "BLOCK", 64)
+    lines = [f"N{i} 0. 0. {i}." for i in range(60)]
+    lines[3] = "deckwarden accept elastic for file"                 # no comment prefix: not a directive
+    lines[40] = "# deckwarden accept element/volumetric-locking"
+    lines[55] = "M1 N1 N2  # DECKWARDEN accept elastic because seal"
+    lines[58] = "# deckwarden accept element"
+    lines[58:58] = [""] * 100                              # blank blocks between the comment and its code line
+    p = tmp_path / "blocks.txt"
+    p.write_text("\n".join(lines) + "\n")
+    got = suppressions.scan_file(str(p), ("#",))
+    assert [(s.line, s.rules, s.target) for s in got] == [
+        (41, ["element/volumetric-locking"], 42), (56, ["elastic"], 56), (159, ["element"], 160)]

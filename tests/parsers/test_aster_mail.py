@@ -8,7 +8,7 @@ with a plain split of the same text (common practice).
 import numpy as np
 import pytest
 
-from linter.parsers.aster.mail import count_tokens, read_mail
+from linter.parsers.aster.mail import _names, count_tokens, read_mail
 
 MAIL = b"""TITRE
  demo
@@ -80,6 +80,19 @@ def test_not_a_mesh():
 @pytest.mark.parametrize("text", [b"", b"A B  C\n\n D", b"  \n\t x", b"abc"])
 def test_token_count_matches_split(text):
     assert count_tokens(text, 0, len(text)) == len(text.split())
+
+
+def _packed_by_hand(token: bytes) -> int:
+    """A name as the mesh keys it: 8 bytes at most, upper case, zero-padded, little-endian (plain Python)."""
+    return int.from_bytes(token[:8].upper().ljust(8, b"\0"), "little")
+
+
+@pytest.mark.parametrize("text", [b"", b"m1 N2  abcdefghij\n\tz", b"  A\xe9b_9 x-y%\n", b"abc", b"12345678 123456789 a",
+                                  b"M1 N1 N2 N3\nM2 N2 N3 N4\nM3", b"q" * 20 + b" " + b"\n" * 3 + b"E"])
+@pytest.mark.parametrize("every", [1, 2, 4])
+def test_name_packing_matches_plain_python(text, every):
+    want = [_packed_by_hand(t) for t in text.split()[::every]]
+    assert _names(text, 0, len(text), every, 0).tolist() == want
 
 
 def test_memory_mapped_mesh_reads_like_bytes(tmp_path, monkeypatch):

@@ -64,7 +64,7 @@ def _mat_grid_quad(model):
 
 
 def test_field_formats_equivalent(write_deck):
-    # the same MAT1 / GRID / CQUAD4 in small, large and free field (formats.md 4.2)
+    # the same MAT1 / GRID / CQUAD4 in small, large and free field (NASTRAN-95 User's Manual 2.4.1.1-2.4.1.2; MYSTRAN User Manual, Bulk Data format)
     grids = [("1", "0.", "0.", "0."), ("2", "2.5", "0.", "0."), ("3", "2.5", "1.5", "0."), ("4", "0.", "1.5", "0.")]
     sm = HEAD + small("MAT1", "7", "2.1+5", "", ".3", "7.85-9") + small("PSHELL", "3", "7", "1.0", "7")
     sm += "".join(small("GRID", g, "", x, y, z) for g, x, y, z in grids) + small("CQUAD4", "10", "3", "1", "2", "3", "4")
@@ -184,7 +184,7 @@ def test_include_in_case_control(write_deck, tmp_path):
 
 
 @pytest.mark.parametrize("fields,expect_e,expect_nu,given", [
-    # formats.md 5.1, from the NASTRAN-95 User's Manual MAT1 remarks and the MYSTRAN User Manual MAT1
+    # NASTRAN-95 User's Manual MAT1 remarks and the MYSTRAN User Manual MAT1
     ("2.0+5,8.0+4,.3", 2.0e5, 0.3, ("E", "G", "NU")),        # all given: used as given
     ("2.6+5,,.3", 2.6e5, 0.3, ("E", "NU")),                  # G = E/(2(1+nu)) = 1e5
     (",1.0+5,.3", 2.6e5, 0.3, ("G", "NU")),                   # E = 2(1+nu)G
@@ -282,7 +282,7 @@ def test_case_control_loads_and_sol(write_deck):
 @pytest.mark.parametrize("sol,kind", [("101", "static"), ("105", "buckle"), ("MODES", "frequency"),
                                       ("129", "dynamic-implicit"), ("153", "heat-steady"), ("3", "frequency")])
 def test_sol_kinds(write_deck, sol, kind):
-    # formats.md 5.9 (MYSTRAN SOL numbers and names, NASTRAN-95 rigid formats)
+    # MYSTRAN User Manual, Executive Control (SOL numbers and names); NASTRAN-95 User's Manual EXEC.TXT, SOL card
     m = parse(write_deck("s.bdf", f"SOL {sol}\nCEND\nBEGIN BULK\nENDDATA\n"))
     assert m.steps[0].procedures[0].kind == kind
 

@@ -1,7 +1,7 @@
 """Keyword-deck (CalculiX dialect) parser: one test per syntax rule.
 
-Facts about how ccx reads a deck come from formats.md section 1-3, which cites the
-CalculiX User's Manual (CCX-UM) and the ccx source (CCX-SRC); where the behaviour was
+Facts about how ccx reads a deck come from the CalculiX User's Manual (CCX-UM, G. Dhondt)
+and the ccx source files named beside each test (CCX-SRC); where the behaviour was
 settled by running the solver, the test says "ccx 2.20 run".
 """
 from __future__ import annotations
@@ -54,7 +54,7 @@ def issue(model, code):
 
 
 def test_case_and_blank_insensitive_keywords_and_parameters(deck):
-    # formats.md 1.1 (CCX-UM "Input deck format"): blanks removed, case ignored
+    # CCX-UM "Input deck format": blanks removed, case ignored
     m = deck(CUBE + "*material, name = Steel Grade A\n*elastic , type = Engineering Constants\n"
              "1,2,3,0.1,0.1,0.1,1,1,\n1\n*Solid  Section, Elset=eall, Material=steel grade a\n")
     mat = m.materials["STEELGRADEA"]
@@ -73,7 +73,7 @@ def test_comments_and_blank_lines_are_not_data(deck):
 
 
 def test_keyword_line_ending_in_comma_is_flagged_and_next_line_is_data(deck):
-    # formats.md 1.1: ccx does not join lines (CCX-SRC readinput.c)
+    # ccx does not join lines (CCX-SRC readinput.c, getnewline.f)
     m = deck(CUBE + "*MATERIAL, NAME=A\n*ELASTIC,\n210000., 0.3\n")
     iss = issue(m, "keyword-continuation")
     assert iss.loc.line == 13
@@ -108,7 +108,7 @@ def test_fortran_numbers_in_material_rows(deck):
 
 
 def test_empty_field_reads_as_zero_and_is_reported(deck):
-    # formats.md 1.1 / CCX-SRC splitline.f; confirmed with a ccx 2.20 run ("210000.,," gives nu = 0)
+    # CCX-SRC splitline.f; confirmed with a ccx 2.20 run ("210000.,," gives nu = 0)
     m = deck("*MATERIAL, NAME=A\n*ELASTIC\n210000.,,\n")
     row = m.materials["A"].first("elastic").rows[0]
     assert row.values == (210000.0, 0.0) and row.blanks == (1,)
@@ -125,7 +125,7 @@ def test_missing_trailing_value_is_padded_without_blank(deck):
 
 def test_number_longer_than_20_characters_is_truncated(deck):
     # ccx 2.20 run: E = 2.100000000000000000E+05 (24 chars) gave a displacement 1e5 times too large,
-    # i.e. E read as 2.1 from the first 20 characters (f20.0; formats.md 1.2, CCX-SRC elastics.f)
+    # i.e. E read as 2.1 from the first 20 characters (f20.0; CCX-SRC elastics.f)
     m = deck("*MATERIAL, NAME=A\n*ELASTIC\n2.100000000000000000E+05, 0.3\n")
     iss = issue(m, "number-truncated")
     assert iss.data["read_as"] == pytest.approx(2.1)
@@ -160,7 +160,7 @@ def test_non_finite_values(deck, value):
 
 
 def test_more_than_16_fields(deck):
-    # formats.md 1.2 (CCX-SRC splitline.f): at most 16 entries per line
+    # CCX-SRC splitline.f: at most 16 entries per line
     m = deck("*MATERIAL, NAME=A\n*ELASTIC\n" + ",".join(["1"] * 17) + "\n")
     assert issue(m, "too-many-fields").data["fields"] == 17
 
@@ -277,7 +277,7 @@ def test_unreadable_include(write_deck):
 
 
 def test_solver_cwd_is_the_include_base(write_deck, tmp_path):
-    # formats.md 1.3 (CCX-SRC readinput.c): relative includes resolve against the working directory
+    # CCX-SRC readinput.c: relative includes resolve against the working directory
     write_deck("run/m.inp", "*MATERIAL, NAME=FROMRUN\n")
     top = write_deck("deck/top.inp", "*INCLUDE, INPUT=m.inp\n")
     assert "missing-include" in codes(parse(top))
@@ -316,7 +316,7 @@ def test_ten_node_tets_continued_with_trailing_comma(deck):
 
 @pytest.mark.parametrize("etype", ["C3D8H", "C3D10M", "CPE4H"])
 def test_unknown_element_type(deck, etype):
-    # formats.md 3 (CCX-SRC elements.f): no hybrid or C3D10M-type elements in ccx
+    # CCX-SRC elements.f: no hybrid or C3D10M-type elements in ccx
     m = deck(f"*ELEMENT, TYPE={etype}\n1,1,2,3,4\n")
     iss = issue(m, "unknown-element-type")
     assert iss.data["type"] == etype and iss.loc.line == 1
@@ -387,7 +387,7 @@ def test_elastic_iso_with_temperatures(deck):
 
 
 def test_elastic_ortho_two_lines_per_row(deck):
-    # formats.md 2.2 (CCX-UM *ELASTIC): ORTHO is 8 constants, then D2323 and T
+    # CCX-UM *ELASTIC: ORTHO is 8 constants, then D2323 and T
     m = deck("*MATERIAL, NAME=O\n*ELASTIC, TYPE=ORTHOTROPIC\n1,2,3,4,5,6,7,8\n9,100.\n1,2,3,4,5,6,7,8\n9\n")
     blk = m.materials["O"].first("elastic")
     assert blk.form == "ortho" and blk.options["TYPE"] == "ORTHOTROPIC"
@@ -396,7 +396,7 @@ def test_elastic_ortho_two_lines_per_row(deck):
 
 
 def test_elastic_aniso_three_lines_per_row(deck):
-    # formats.md 2.2: ANISO is 8 + 8 + 5 constants, T last
+    # CCX-UM *ELASTIC: ANISO is 8 + 8 + 5 constants, T last
     m = deck("*MATERIAL, NAME=X\n*ELASTIC, TYPE=ANISO\n" + ",".join(map(str, range(1, 9))) + "\n" +
              ",".join(map(str, range(9, 17))) + "\n17,18,19,20,21,50.\n")
     blk = m.materials["X"].first("elastic")
@@ -405,7 +405,7 @@ def test_elastic_aniso_three_lines_per_row(deck):
 
 
 def test_unknown_elastic_type_stays_iso(deck):
-    # formats.md 2.8 (CCX-SRC elastics.f): no else branch, the type stays ISO
+    # CCX-SRC elastics.f: no else branch, the type stays ISO
     m = deck("*MATERIAL, NAME=A\n*ELASTIC, TYPE=CUBIC\n1., 0.3\n")
     assert m.materials["A"].first("elastic").form == "iso"
     assert issue(m, "unknown-option").data["value"] == "CUBIC"
@@ -450,7 +450,7 @@ def test_plastic_hardening_and_deformation_plasticity(deck):
     (", VAN DER WAALS", "van-der-waals", "1,2,3,4,5"),
 ])
 def test_hyperelastic_models(deck, params, form, line):
-    # formats.md 2.5 (CCX-UM *HYPERELASTIC; CCX-SRC hyperelastics.f): constant counts per model
+    # CCX-UM *HYPERELASTIC; CCX-SRC hyperelastics.f: constant counts per model
     m = deck(f"*MATERIAL, NAME=R\n*HYPERELASTIC{params}\n{line}\n")
     blk = m.materials["R"].first("hyperelastic")
     assert blk.form == form
@@ -465,14 +465,14 @@ def test_hyperelastic_polynomial_3_spans_two_lines(deck):
 
 
 def test_hyperelastic_n_before_model_name(deck):
-    # formats.md 2.5: N= before the model name is applied to the default model
+    # CCX-SRC hyperelastics.f: N= before the model name is applied to the default model
     m = deck("*MATERIAL, NAME=R\n*HYPERELASTIC, N=2, OGDEN\n1,2,3\n")
     assert m.materials["R"].first("hyperelastic").form == "ogden-1"
     assert issue(m, "unknown-option").data["option"] == "N"
 
 
 def test_hyperfoam(deck):
-    # formats.md 2.6 (CCX-UM *HYPERFOAM): N=2 is mu1, alpha1, mu2, alpha2, nu1, nu2, T
+    # CCX-UM *HYPERFOAM: N=2 is mu1, alpha1, mu2, alpha2, nu1, nu2, T
     m = deck("*MATERIAL, NAME=F\n*HYPERFOAM, N=2\n1,2,3,4,0.1,0.2\n")
     blk = m.materials["F"].first("hyperfoam")
     assert blk.form == "hyperfoam-2" and blk.rows[0].values == (1, 2, 3, 4, 0.1, 0.2)
@@ -652,7 +652,7 @@ def test_fluid_and_general_beam_sections_name_their_material(deck):
 
 
 def test_unknown_hyperelastic_parameter_and_extra_values(deck):
-    # formats.md 2.8 (CCX-SRC hyperelastics.f): an unknown model name is warned about, POLYNOMIAL N=1 used
+    # CCX-SRC hyperelastics.f: an unknown model name is warned about, POLYNOMIAL N=1 used
     m = deck("*MATERIAL, NAME=R\n*HYPERELASTIC, GENT\n1.,2.,0.01\n*DENSITY\n1.,20.,99.\n")
     assert m.materials["R"].first("hyperelastic").form == "polynomial-1"
     assert issue(m, "unknown-option").data["option"] == "GENT"
@@ -662,7 +662,7 @@ def test_unknown_hyperelastic_parameter_and_extra_values(deck):
 
 
 def test_oversized_integers_in_sets_are_malformed_not_fatal(deck):
-    # formats.md 1.2 (CCX-SRC noelsets.f): integers are read with (i10)
+    # CCX-SRC noelsets.f: integers are read with (i10)
     m = deck("*ELSET, ELSET=E\n1111111111111111111111, 3\n*ELSET, ELSET=G, GENERATE\n1, 99999999999\n"
              "1, 900000000, 1\n")
     assert [i.loc.line for i in m.issues if i.code == "malformed-data"] == [2, 4, 5]
@@ -726,7 +726,7 @@ def test_user_laws_need_no_data_lines(deck):
 def test_orientation_by_distribution_name_and_incomplete_ortho_row(deck):
     m = deck("*ORIENTATION, NAME=OD\nMYDIST\n*MATERIAL, NAME=O\n*ELASTIC, TYPE=ORTHO\n1,2,3,4,5\n")
     assert m.orientations["OD"].values == ()
-    # formats.md 2.2 (CCX-SRC elastics.f): 8 values are required on the first ORTHO line
+    # CCX-SRC elastics.f: 8 values are required on the first ORTHO line
     iss = issue(m, "malformed-data")
     assert iss.loc.line == 5 and iss.data["expected"] == 9 and iss.data["given"] == 5
 

@@ -298,7 +298,7 @@ def test_bad_numbers(write_deck, fmt, value, rules):
         p, line = write_deck("num.inp", kw(elastic=f"{value}, 0.3")), KW_ELASTIC_LINE
     else:
         if value == "1e400":
-            value = "1.+400"        # the bulk spelling of the same overflow (formats.md 4.5)
+            value = "1.+400"        # the bulk spelling of the same overflow (NASTRAN-95 User's Manual 2.4.1.1, real numbers)
         p, line = write_deck("num.bdf", bulk(mat1=f"MAT1,1,{value},,0.3,7.85-9")), BULK_MAT_LINE
     r = run([p])
     found = hits(r, rules, p, line)

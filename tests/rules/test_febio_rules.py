@@ -29,7 +29,7 @@ def test_uncoupled_k_missing_takes_the_default_zero(tmp_path):
 
 
 def test_uncoupled_k_low_reports_equivalent_nu(tmp_path):
-    # k/mu0 = 100 / 2 = 50: nu = (3*50 - 2)/(6*50 + 2) = 148/302 = 0.4901 (isotropic relation, physics.md 3.2)
+    # k/mu0 = 100 / 2 = 50: nu = (3*50 - 2)/(6*50 + 2) = 148/302 = 0.4901 (isotropic K-G relation; Mavko et al., Rock Physics Handbook)
     report = check_text(tmp_path, feb(mr(100)))
     f = _found(report, "hyper/penalty-bulk-modulus")
     assert len(f) == 1 and f[0].severity == "note"

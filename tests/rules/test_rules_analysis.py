@@ -40,7 +40,8 @@ def _load(kind, value, target=None):
     ("bulk", "heat-transient", "SOL 159"),
 ])
 def test_missing_density_is_an_error_when_the_step_needs_mass(fmt, kind, card):
-    # formats.md 2.1 (CalculiX manual: *DENSITY for *FREQUENCY, *DYNAMIC, transient *HEAT TRANSFER) and 5.9
+    # CalculiX User's Manual, Materials and *DENSITY (*DENSITY for *FREQUENCY, *DYNAMIC, transient *HEAT TRANSFER);
+    # MYSTRAN User Manual, Solutions and Mass (SOL 103)
     d = _deck(fmt, elastic=[(210000.0, 0.3)], conductivity=[(50.0,)], specific_heat=[(4.6e8,)])
     _step(d, kind, card=card)
     found = d.run("analysis/missing-density")
@@ -81,7 +82,7 @@ def test_static_steps_do_not_need_density_but_gravity_warns():
 
 
 def test_zero_density_counts_as_missing():
-    # bulk MAT1 RHO blank defaults to 0 (formats.md 5.1)
+    # bulk MAT1 RHO blank defaults to 0 (NASTRAN-95 User's Manual MAT1)
     d = _deck("bulk", elset="PID 1", elastic=[(210000.0, 0.3)], density=[(0.0,)])
     _step(d, "frequency", card="SOL 103")
     assert len(d.run("analysis/missing-density")) == 1
@@ -156,7 +157,7 @@ def test_missing_expansion_when_the_temperature_changes():
     heat = _deck(**STEEL)
     _step(heat, "heat-steady", loads=[_load("temperature", 120.0)])
     assert heat.run("analysis/missing-expansion") == []
-    # bulk MAT1 with A blank reads as 0 (formats.md 5.1): no expansion
+    # bulk MAT1 with A blank reads as 0 (NASTRAN-95 User's Manual MAT1): no expansion
     blank = _deck("bulk", elset="PID 1", expansion=[(0.0,)], **STEEL)
     blank.model.initial_temperatures.append(_load("temperature", 20.0))
     _step(blank, "static", loads=[_load("temperature", 120.0)], card="SOL 101")
@@ -195,7 +196,7 @@ def test_temperature_outside_table_and_negative_extrapolation():
     inside.model.initial_temperatures.append(_load("temperature", 20.0))
     _step(inside, "static", loads=[_load("temperature", 400.0)])
     assert inside.run("analysis/temperature-outside-table") == []
-    # a single row holds for all temperatures (formats.md 2.1)
+    # a single row holds for all temperatures (CalculiX User's Manual *ELASTIC example; ccx source elastics.f)
     single = _deck(**STEEL)
     single.model.initial_temperatures.append(_load("temperature", -50.0))
     assert single.run("analysis/temperature-outside-table") == []
@@ -249,7 +250,7 @@ def _hex_mesh(d, edge=10.0):
 
 
 def test_explicit_time_step_check_values():
-    # physics.md 6.3 check values (mm-t-s, L_e = 10 mm): steel dt = 1.666e-6 s, seal (nu = 0.4995) 5.474e-6 s
+    # computed from dt = L_e/c_d (Belytschko, Liu & Moran 2000 ch. 6, from memory; mm-t-s, L_e = 10 mm): steel dt = 1.666e-6 s, seal (nu = 0.4995) 5.474e-6 s
     d = _deck()
     _hex_mesh(d)
     _step(d, "dynamic-explicit", card="*DYNAMIC, EXPLICIT")
@@ -262,7 +263,7 @@ def test_explicit_time_step_check_values():
     _step(seal, "dynamic-explicit")
     found = seal.run("analysis/explicit-time-step")
     assert found[0].data["dt"] == pytest.approx(5.474e-6, rel=1e-3)
-    # c_d/c_s = sqrt((2-2nu)/(1-2nu)) = 31.6 at nu = 0.4995 (derived from physics.md 1.1): above 10 -> warning
+    # c_d/c_s = sqrt((2-2nu)/(1-2nu)) = 31.6 at nu = 0.4995 (derived from the isotropic relations, Mavko et al.): above 10 -> warning
     assert found[0].severity == "warning" and found[0].data["ratio"] == pytest.approx(31.6, abs=0.1)
     soft = _deck(elastic=[(12.0, 0.3)], density=[(1.2e-9,)])
     _hex_mesh(soft)
@@ -286,7 +287,7 @@ def test_explicit_time_step_estimated_without_connectivity():
 
 
 def test_explicit_time_step_hyperelastic_and_other_steps():
-    # neo-Hooke C10 = 0.5, D1 = 0.001: mu0 = 1, K0 = 2/D1 = 2000 (physics.md 3.2); rho = 1.1e-9
+    # neo-Hooke C10 = 0.5, D1 = 0.001: mu0 = 1, K0 = 2/D1 = 2000 (mu0, K0 from the *HYPERELASTIC energies of the CalculiX User's Manual); rho = 1.1e-9
     d = _deck(hyper=("neo-hooke", [(0.5, 0.001)]), density=[(1.1e-9,)])
     _hex_mesh(d)
     _step(d, "dynamic-explicit")
@@ -300,7 +301,7 @@ def test_explicit_time_step_hyperelastic_and_other_steps():
 
 
 def test_fluid_and_heat_elements_need_no_stiffness():
-    # formats.md 2.3: *SPECIFIC HEAT is for solids; fluids take *FLUID CONSTANTS (CalculiX manual)
+    # CalculiX User's Manual *SPECIFIC HEAT: *SPECIFIC HEAT is for solids; fluids take *FLUID CONSTANTS (CalculiX manual)
     fluid = _deck(etype="F3D8", density=[(1.0,)], conductivity=[(1.0,)])
     _step(fluid, "coupled-transient", card="*COUPLED TEMPERATURE-DISPLACEMENT")
     assert fluid.run("analysis/missing-elastic", "analysis/missing-specific-heat",
@@ -368,7 +369,7 @@ def test_end_to_end_keyword_deck(write_deck):
     rules = sorted(f.rule for f in fixed)
     assert rules == ["analysis/explicit-time-step", "analysis/temperature-outside-table"]
     dt = [f for f in fixed if f.rule == "analysis/explicit-time-step"][0]
-    # smallest edge 8 (hand built brick 10 x 10 x 8); c_d of steel 6.001e6 mm/s (physics.md 6.3)
+    # smallest edge 8 (hand built brick 10 x 10 x 8); c_d of steel 6.001e6 mm/s (computed from sqrt(M/rho), EN 1993-1-1 E and nu)
     assert dt.data["length"] == pytest.approx(8.0) and dt.data["dt"] == pytest.approx(8.0 / 6.001e6, rel=1e-3)
 
 

@@ -16,7 +16,7 @@ from linter.runner import run_rules
 from decks import CUBE_NODES
 
 P = "deck.inp"
-AS4_3D = (126.0, 11.0, 11.0, 0.28, 0.28, 0.4, 6.6, 6.6, 11.0 / 2.8)   # physics.md 2.4 (SHK 1998)
+AS4_3D = (126.0, 11.0, 11.0, 0.28, 0.28, 0.4, 6.6, 6.6, 11.0 / 2.8)   # Soden, Hinton & Kaddour 1998 (nu23 = 0.4 from memory)
 
 
 def block(kind, form, rows, line=10, card="*ELASTIC", temps=None, options=None):
@@ -54,9 +54,9 @@ def test_published_lamina_and_3d_sets_pass():
     found = run(m)
     assert found == []
     d = m.materials["M"].derived["aniso"]
-    assert d[0]["rows"][0]["eig_min"] == pytest.approx(3.92857, rel=1e-5)      # physics.md 2.4
+    assert d[0]["rows"][0]["eig_min"] == pytest.approx(3.92857, rel=1e-5)      # computed (G23 = E2/(2(1+nu23)))
     assert d[0]["rows"][0]["determinant"] == pytest.approx(0.820836, rel=1e-5)
-    assert d[2]["rows"][0]["eig_min"] == pytest.approx(75478.05, abs=0.01)     # physics.md 2.1
+    assert d[2]["rows"][0]["eig_min"] == pytest.approx(75478.05, abs=0.01)     # computed eigenvalue of the corpus ANISO vector
 
 
 def test_lamina_nu12_past_bound_is_reported_once():
@@ -71,7 +71,7 @@ def test_lamina_nu12_past_bound_is_reported_once():
 
 
 def test_engineering_bounds_message_and_restatement():
-    # E1 = 10, E2 = E3 = 100, nu12 = 0.5 > sqrt(E1/E2) (physics.md 2.4 failing vector)
+    # E1 = 10, E2 = E3 = 100, nu12 = 0.5 > sqrt(E1/E2) (violates Lempriere 1968; computed)
     m = model_with(block("elastic", "engineering", [(10, 100, 100, 0.5, 0.0, 0.3, 5, 5, 5)]))
     found = run(m)
     assert [f.rule for f in found] == ["aniso/constant-bounds"]
@@ -79,14 +79,14 @@ def test_engineering_bounds_message_and_restatement():
 
 
 def test_determinant_condition_when_pairwise_bounds_hold():
-    # AS4/3501-6 with nu23 = 0.99: pairwise bounds hold, condition 3 = -0.00734 (physics.md 2.4)
+    # AS4/3501-6 with nu23 = 0.99: pairwise bounds hold, condition 3 = -0.00734 (Lempriere 1968 condition 3, computed)
     v = list(AS4_3D)
     v[5] = 0.99
     m = model_with(block("elastic", "engineering", [v]))
     found = run(m)
     assert [f.rule for f in found] == ["aniso/not-positive-definite"]
     assert "-0.00734" in found[0].message and "nu23 nu32" in found[0].message
-    # the stored eigenvalue is the stiffness's: C has a negative eigenvalue of -3433 (physics.md 2.4)
+    # the stored eigenvalue is the stiffness's: C has a negative eigenvalue of -3433 (computed from the orthotropic compliance)
     assert m.materials["M"].derived["aniso"][0]["rows"][0]["eig_min"] == pytest.approx(-3433, rel=1e-3)
 
 
@@ -240,7 +240,7 @@ def _check(path, family):
 
 
 def test_end_to_end_engineering_constants(write_deck):
-    # invented ply: E1 = 10, E2 = E3 = 100 with nu12 = 0.5 > sqrt(E1/E2) (physics.md 2.4 failing vector)
+    # invented ply: E1 = 10, E2 = E3 = 100 with nu12 = 0.5 > sqrt(E1/E2) (violates Lempriere 1968; computed)
     deck = write_deck("ply.inp", MESH + """*ORIENTATION,NAME=OR1
 1,0,0,0,1,0
 *MATERIAL,NAME=PLY
@@ -266,7 +266,7 @@ def test_end_to_end_missing_orientation_and_aniso_order(write_deck, corpus_dir):
     if not deck.is_file():
         pytest.skip("aniso.inp not in the corpus")
     found = _check(deck, "aniso")
-    # the corpus ANISO vector is positive definite (eigenvalues 75478.05 ... 1459906.35, computed in physics.md 2.1);
+    # the corpus ANISO vector is positive definite (eigenvalues 75478.05 ... 1459906.35, computed with a symmetric eigensolver);
     # its solid section has no orientation
     assert [f.rule for f in found] == ["aniso/missing-orientation"]
 

@@ -63,7 +63,7 @@ def test_defaulted_shell_roles(write_deck):
 
 
 def test_g_only_is_fine_for_shear_panels(write_deck):
-    # MAT1 with only G is legitimate for PSHEAR (formats.md 5.1: shear panels take G)
+    # MAT1 with only G is legitimate for PSHEAR (NASTRAN-95 User's Manual MAT1: shear panels take G)
     p = deck(write_deck, "PSHEAR,3,1,1.\nCSHEAR,1,3,1,2,3,4\nMAT1,1,,2.7+4\n")
     assert findings(p, "elastic/defaulted-constants") == []
     p2 = deck(write_deck, "PSHELL,3,1,1.\nCQUAD4,1,3,1,2,3,4\nMAT1,1,,2.7+4\n", name="e.bdf")
@@ -89,7 +89,7 @@ def test_core_rules_on_bulk(write_deck):
     p = deck(write_deck, "PSOLID,1,1\nCHEXA,1,1,1,2,3,4,5,6,+\n+,7,8\nMAT1,1,2.1+5,,.5\n")
     got = findings(p, "elastic/poisson-out-of-range")
     assert [f.severity for f in got] == ["error"]
-    # ... and a warning on plates (formats.md 6: MYSTRAN plates accept it)
+    # ... and a warning on plates (MYSTRAN source MATERIAL_PROPS_2D.f90: plates accept it)
     p2 = deck(write_deck, "PSHELL,2,1,1.,1\nCQUAD4,1,2,1,2,3,4\nMAT1,1,2.1+5,,.5\n", name="s.bdf")
     got2 = findings(p2, "elastic/poisson-out-of-range")
     assert [f.severity for f in got2] == ["warning"]

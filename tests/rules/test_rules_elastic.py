@@ -81,7 +81,7 @@ def test_K_from_nu_is_reported_when_poisson_rule_is_off():
     d.material("M", elastic=[(100.0, 0.6)])
     found = d.run("elastic/modulus-nonpositive", config=cfg)
     assert len(found) == 1 and found[0].data["rows"][0]["which"] == ["K"]
-    # K = E/(3(1-2nu)) = 100/(3*(-0.2)) = -166.67 (standard relation, physics.md 1.1)
+    # K = E/(3(1-2nu)) = 100/(3*(-0.2)) = -166.67 (standard relation; Mavko et al., Rock Physics Handbook)
     assert found[0].data["rows"][0]["K"] == pytest.approx(-166.6667, rel=1e-5)
 
 
@@ -116,7 +116,7 @@ def test_near_incompressible_note_with_ratio_and_lambda():
     found = d.run("elastic/near-incompressible")
     assert [f.material for f in found] == ["RUBBER"]
     row = found[0].data["rows"][0]
-    # E = 12, nu = 0.49: K/G = 49.667, lambda = 197.3154 (physics.md 1.4 check values, standard table [S1])
+    # E = 12, nu = 0.49: K/G = 49.667, lambda = 197.3154 (computed from the standard conversion table, Mavko et al.)
     assert row["K_over_G"] == pytest.approx(49.667, rel=1e-4)
     assert row["lambda"] == pytest.approx(197.3154, rel=1e-6)
     assert "K/G = 49.66" in found[0].message and "lambda = 197.3" in found[0].message
@@ -163,7 +163,7 @@ def _check(path):
 
 def test_end_to_end_nu_half(write_deck):
     # ccx 2.20 on this deck: "*ERROR reading *ELASTIC: Poisson coefficient should be less than 0.5"
-    # (run here; formats.md 6 cites elastics.f)
+    # (run here; the check is in the ccx source elastics.f)
     p = write_deck("seal.inp", HEX.format(etype="C3D8R", elastic="12., 0.5, 20.\n12., 0.45, 80."))
     found = [f for f in _check(p) if f.rule.startswith("elastic/")]
     assert [(f.rule, f.line) for f in found] == [("elastic/poisson-out-of-range", 14)]

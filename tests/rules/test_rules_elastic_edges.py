@@ -150,7 +150,10 @@ def test_non_finite_modulus_is_left_to_the_parser_findings(bad):
     # a non-finite E cannot be graded (it is reported where it is read); no range finding is made of it
     d = Deck()
     d.material("M", elastic=[(bad, 0.3), (1000.0, float("nan"))])
-    assert d.run("elastic/poisson-out-of-range", "elastic/modulus-nonpositive", "elastic/poisson-negative") == []
+    found = d.run()
+    assert not [f for f in found if f.rule.startswith("internal/")], found
+    assert not [f for f in found if f.rule in ("elastic/poisson-out-of-range", "elastic/modulus-nonpositive",
+                                               "elastic/poisson-negative")]
 
 
 def test_aster_element_unknown_to_the_catalogue_counts_as_other():

@@ -1,7 +1,7 @@
 """element/volumetric-locking on neutral models built directly (tests/builders.py).
 
 Grades and alternatives come from the catalogue, whose source is the CalculiX User's Manual
-"Element Types" as tabulated in formats.md section 3 (C3D8 locks for "high values of Poisson's
+"Element Types" (C3D8 locks for "high values of Poisson's
 coefficient or plastic behavior"; C3D20R "performs well for isochoric material behavior").
 """
 from __future__ import annotations
@@ -105,7 +105,7 @@ def test_hyperelastic_end_to_end_through_the_derivation():
     found = d.run(RULE)
     # the hyperelastic derivation is part of the built-in pack: a missing result is a failure, not a skip
     assert "hyper" in d.model.materials["M"].derived, "hyperelastic derivation gave no result"
-    # neo-Hooke C10 = 0.5, D1 = 0.001: mu0 = 2 C10 = 1, K0 = 2/D1 = 2000 (physics.md 3.2), so K0/mu0 = 2000
+    # neo-Hooke C10 = 0.5, D1 = 0.001: mu0 = 2 C10 = 1, K0 = 2/D1 = 2000 (mu0 and K0 from the *HYPERELASTIC energies of the CalculiX User's Manual), so K0/mu0 = 2000
     assert len(found) == 1 and found[0].severity == "error"
     assert found[0].data["K0_over_mu0"] == pytest.approx(2000.0, rel=1e-6)
 
@@ -145,7 +145,7 @@ def test_user_element_unknown_grade():
 
 
 def test_incompressible_hyperelastic_outside_calculix_is_the_worst_case():
-    # physics.md 3.1: D = 0 means incompressible (K0 infinite); outside the CalculiX dialect nothing
+    # CalculiX User's Manual *HYPERELASTIC: D = 0 means incompressible (K0 infinite); outside the CalculiX dialect nothing
     # substitutes a compressibility, so on fully integrated hexahedra this is the worst locking case
     from linter.model import DeckModel, ElementBlock, ElementSet, Loc, Material, MaterialRef, Section
     from linter.check import check_paths  # noqa: F401  (registry and derivations load with the driver)

@@ -43,7 +43,7 @@ def rules_of(found):
 
 
 def test_good_rubber_is_clean_and_derived_shape():
-    # MR C10 = 0.4, C01 = 0.1, D1 = 0.001: mu0 = 1, K0 = 2000, nu0 = 0.49975 (physics.md 3.2)
+    # MR C10 = 0.4, C01 = 0.1, D1 = 0.001: mu0 = 1, K0 = 2000, nu0 = 0.49975 (computed from the *HYPERELASTIC energies, CalculiX User's Manual)
     m = model_with(hblock("mooney-rivlin", [(0.4, 0.1, 0.001)]))
     assert run(m) == []
     h = m.materials["RUBBER"].derived["hyper"]
@@ -57,7 +57,7 @@ def test_worst_row_summary():
     m = model_with(hblock("neo-hooke", [(0.2, 0.01), (0.2, 0.001)], temps=[20.0, 80.0]))
     run(m)
     h = m.materials["RUBBER"].derived["hyper"]
-    assert h["worst_row"] == 1 and h["K0_over_mu0"] == pytest.approx(5000)   # physics.md 3.2 row 2
+    assert h["worst_row"] == 1 and h["K0_over_mu0"] == pytest.approx(5000)   # computed: 2/D1 over 2 C10
 
 
 def test_negative_initial_shear_restates_instability():
@@ -80,8 +80,8 @@ def test_negative_bulk():
 
 
 def test_compressibility_defaulted_calculix_only():
-    # OGDEN N=1 mu1 = 3.488, alpha1 = 2.163, D1 = 0 (corpus beamog.inp values, physics.md 3.2):
-    # ccx uses D1 = 0.1/mu0, K0/mu0 = 20 (formats.md 2.5)
+    # OGDEN N=1 mu1 = 3.488, alpha1 = 2.163, D1 = 0 (corpus beamog.inp values):
+    # ccx uses D1 = 0.1/mu0, K0/mu0 = 20 (CalculiX User's Manual *HYPERELASTIC; ccx source hyperelastics.f)
     found = run(model_with(hblock("ogden-1", [(3.488, 2.163, 0.0)])))
     assert rules_of(found) == ["hyper/compressibility-defaulted"]
     f = found[0]
@@ -102,7 +102,7 @@ def test_compressibility_defaulted_calculix_only():
     ({"name": "gpa", "confidence": 0.0, "declared": True, "stress_scale_to_pa": 1e9}, False),
 ])
 def test_too_compressible(us, reported):
-    # neo-Hooke C10 = 0.5 (mu0 = 1), D1 = 0.2 -> K0 = 10, K0/mu0 = 10 < 20 (physics.md 3.2 suggestion)
+    # neo-Hooke C10 = 0.5 (mu0 = 1), D1 = 0.2 -> K0 = 10, K0/mu0 = 10 < 20 (threshold K0/mu0 20 is our suggestion, common practice)
     found = run(model_with(hblock("neo-hooke", [(0.5, 0.2)]), unit_system=us))
     assert rules_of(found) == (["hyper/too-compressible"] if reported else [])
     if reported:
@@ -111,7 +111,7 @@ def test_too_compressible(us, reported):
 
 
 def test_unstable_outside_working_range_is_warning():
-    # MR C10 = 0.5, C01 = -0.05: UT unstable at lambda >= 3.1623 and <= 0.1977 (physics.md 3.5);
+    # MR C10 = 0.5, C01 = -0.05: UT unstable at lambda >= 3.1623 and <= 0.1977 (computed on the Hill condition, arXiv:2511.13792);
     # ET 2.2489 and 0.5623 and PS 3.0465, 0.3282: all outside 0.5-2.0 except ET compression 0.5-0.5623
     found = run(model_with(hblock("mooney-rivlin", [(0.5, -0.05, 0.001)])))
     assert rules_of(found) == ["hyper/unstable"]
@@ -130,7 +130,7 @@ def test_unstable_outside_working_range_is_warning():
 
 
 def test_unstable_inside_working_range_is_error():
-    # Ogden D-conv. mu = (0.8, -0.3), alpha = (1, 4): UT onset 1.4816 (physics.md 3.5)
+    # Ogden D-conv. mu = (0.8, -0.3), alpha = (1, 4): UT onset 1.4816 (computed on the Hill condition, arXiv:2511.13792)
     found = run(model_with(hblock("ogden-2", [(0.8, 1.0, -0.3, 4.0, 0.001, 0.0)])))
     f = [x for x in found if x.rule == "hyper/unstable"]
     assert len(f) == 1 and f[0].severity == "error" and "1.482" in f[0].message
@@ -151,7 +151,7 @@ def test_hyperfoam_singular_poisson():
     assert "nu1 = 0.5" in found[0].message
     ok = model_with(hblock("hyperfoam-1", [(0.5, 8.0, 0.25)], kind="hyperfoam"))
     assert run(ok) == []
-    assert ok.materials["RUBBER"].derived["hyper"]["nu0"] == pytest.approx(0.25)   # formats.md 2.6 K0
+    assert ok.materials["RUBBER"].derived["hyper"]["nu0"] == pytest.approx(0.25)   # K0 derived from the CalculiX User's Manual *HYPERFOAM energy
 
 
 def test_temperature_rows_listed():
@@ -203,7 +203,7 @@ def test_end_to_end_keyword_deck(write_deck):
     pytest.importorskip("linter.parsers.keyword")
     from linter.check import check_paths
 
-    # invented seal: MR with C01 < 0 (physics.md 3.5 unstable set) and an Ogden N=1 with D1 = 0
+    # invented seal: MR with C01 < 0 (unstable on the Hill condition, arXiv:2511.13792; computed) and an Ogden N=1 with D1 = 0
     deck = write_deck("seal.inp", MESH + """*MATERIAL,NAME=SEAL
 *HYPERELASTIC,MOONEY-RIVLIN
 0.5,-0.05,0.001
@@ -234,6 +234,6 @@ def test_corpus_hyper_decks(corpus_dir):
     res = check_paths(files, Config(select=["hyper"]))
     assert not [f for f in res.findings if f.rule.startswith("internal/") and "hyper" in f.message]
     rules = {(f.path.rsplit("/", 1)[-1], f.rule) for f in res.findings}
-    # beamog.inp: OGDEN N=1 mu1 = 3.488, D1 = 0 (physics.md 3.2) -> ccx default compressibility
+    # beamog.inp: OGDEN N=1 mu1 = 3.488, D1 = 0 -> ccx default (CalculiX User's Manual *HYPERELASTIC) compressibility
     if any(p.endswith("beamog.inp") for p in files):
         assert ("beamog.inp", "hyper/compressibility-defaulted") in rules

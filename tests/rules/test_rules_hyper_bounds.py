@@ -126,7 +126,7 @@ def test_unit_system_trusted_from_the_confidence_threshold():
 # ------------------------------------------------------------------------------------ unstable: wording
 
 def test_unstable_message_names_both_ranges():
-    # Ogden D-conv. mu = (0.8, -0.3), alpha = (1, 4): unstable inside 0.5-2 (UT onset 1.4816, physics.md 3.5)
+    # Ogden D-conv. mu = (0.8, -0.3), alpha = (1, 4): unstable inside 0.5-2 (UT onset 1.4816, computed on the Hill condition, arXiv:2511.13792)
     found = _run(_model(_block("ogden-2", [(0.8, 1.0, -0.3, 4.0, 0.001, 0.0)])), "hyper/unstable")
     assert "inside the working range 0.5-2 " in found[0].message and "scanned 0.1-4)" in found[0].message
     # MR C10 = 0.5, C01 = -0.05 over a working range 0.6-1.4: only outside (UT onsets 0.1977, 3.162)

@@ -39,7 +39,7 @@ OGDEN = ("ogden-2", (0.8, 1.0, -0.3, 4.0, 0.001, 0.0))    # D-conv. mu = (0.8, -
 
 def test_loss_touching_the_working_range_end_is_outside():
     # Ogden mu = (0.8, -0.3), alpha = (1, 4) is unstable in every mode from the scan start 0.1 (UT up to 0.52)
-    # and up to the scan end 4.0 (UT from 1.4816, physics.md 3.5 onset): a working range 4.0-5.0 or 0.05-0.1
+    # and up to the scan end 4.0 (UT from 1.4816, onset computed on the Hill condition, arXiv:2511.13792): a working range 4.0-5.0 or 0.05-0.1
     # shares only one point with those intervals, so nothing is lost inside it (common practice: open overlap)
     for wr in ([4.0, 5.0], [0.05, 0.1]):
         found = _unstable(_model(*OGDEN), working_range=wr)

@@ -120,7 +120,7 @@ def test_partly_assigned_block():
 
 
 def test_springs_masses_gaps_need_no_section():
-    # formats.md 1.5: springs, dashpots and masses take their properties from *SPRING/*DASHPOT/*MASS;
+    # CalculiX User's Manual *SPRING, *DASHPOT, *MASS: springs, dashpots and masses take their properties from *SPRING/*DASHPOT/*MASS;
     # gap and DCOUP3D elements are exempt in calinput.f
     d = _clean()
     for t in ("SPRINGA", "SPRING1", "DASHPOTA", "MASS", "GAPUNI", "DCOUP3D"):

@@ -12,7 +12,7 @@ PLASTIC_RULES = ("plastic/first-strain-not-zero", "plastic/strain-not-increasing
 STEEL = dict(elastic=[(210000.0, 0.3)], density=[(7.85e-9,)])
 
 # 6061-T6 engineering curve (Dowling, Mechanical Behavior of Materials, Table P4.6, as reproduced on a public
-# Q&A page; not checked against the book), E = 72464 MPa, converted with physics.md 4 formulas.
+# Q&A page; not checked against the book), E = 72464 MPa, converted with the standard engineering-to-true relations (common practice).
 AL_S = np.array([268, 290, 298, 302, 305.0])
 AL_E = np.array([0.384, 0.438, 0.493, 0.651, 0.992]) / 100
 AL_MOD = 50 / 0.00069
@@ -109,9 +109,9 @@ def test_yield_vs_modulus_units_and_class():
     # with the units rule on, it names the slip (with the value to write): one defect, one finding
     both = [f.rule for f in pa.run("plastic/yield-vs-modulus", "units/mismatch")]
     assert len(both) == 1
-    # S355 steel (EN 1993-1-1, physics.md 4: 1.69e-3) is inside the metal band
+    # S355 steel (EN 1993-1-1 Table 3.1: f_y 355, E 210000, so 1.69e-3 computed) is inside the metal band
     assert _deck([(355, 0), (400, 0.1)]).run("plastic/yield-vs-modulus") == []
-    # 0.03 is too much for a metal, fine for a polymer (PA66-like E = 3000, rho = 1.14e-9; physics.md 5.5)
+    # 0.03 is too much for a metal, fine for a polymer (PA66-like E = 3000, rho = 1.14e-9; Ashby, Materials and the Environment, PA data sheet)
     assert len(_deck([(6300, 0), (7000, 0.1)]).run("plastic/yield-vs-modulus")) == 1
     poly = _deck([(90, 0), (100, 0.1)], elastic=[(3000.0, 0.4)], density=[(1.14e-9,)])
     assert poly.run("plastic/yield-vs-modulus") == []
@@ -127,7 +127,8 @@ def _mats1(points, e=210000.0):
 
 
 def test_bulk_total_strain_table_is_checked_as_a_curve_from_the_origin():
-    # formats.md 5.3 / physics.md 4: a TABLES1 stress-strain curve starts at the origin, the second point
+    # Nastran MATS1/TABLES1 card definitions (NASTRAN-95 User's Manual MATS1, TABLES1; whether the table is
+    # total strain differs between dialects, from memory): a TABLES1 stress-strain curve starts at the origin, the second point
     # is the initial yield point
     rows, opts = _mats1([(0.0, 0.0), (0.001, 210.0), (0.05, 300.0)])
     assert _deck(rows, fmt="bulk", options=opts).run(*PLASTIC_RULES) == []
@@ -179,7 +180,7 @@ def test_end_to_end_keyword_plastic(write_deck):
 
 def test_corpus_decks_have_no_plastic_errors(corpus_dir):
     # the corpus decks are solver test decks that run; the creep deck with *PLASTIC 0,0 / 0,10 gives a warning
-    # (physics.md 4 corpus note)
+    # (observed in a CalculiX test deck of the corpus)
     from linter.check import check_paths
 
     decks = sorted((corpus_dir / "keyword").glob("*.inp"))
@@ -215,7 +216,7 @@ ENDDATA
 
 
 def test_bulk_mats1_given_by_slope():
-    # formats.md 5.3: MATS1 with H (work-hardening slope) and LIMIT1 (initial yield stress) and no table
+    # NASTRAN-95 User's Manual / Nastran-dialect quick references, MATS1: with H (work-hardening slope) and LIMIT1 (initial yield stress) and no table
     base = {"card": "MATS1", "TYPE": "PLASTIC"}
     clean = _deck([], fmt="bulk", options={**base, "H": 1000.0, "LIMIT1": 250.0})
     assert clean.run(*PLASTIC_RULES) == []

@@ -59,7 +59,7 @@ def test_zero_density_from_empty_field_restates_parse_issue():
 
 
 def test_bulk_blank_density_means_not_given():
-    # formats.md 5.1: MAT1 RHO defaults to 0 when blank (no mass), not an error
+    # NASTRAN-95 User's Manual MAT1; MYSTRAN User Manual MAT1: RHO defaults to 0 when blank (no mass), not an error
     d = Deck(fmt="bulk", dialect="mystran", path="d.bdf")
     m = d.material("MID 1", elastic=[(1e7, 0.3)])
     d.block(m, "density", "iso", [(0.0,)], blanks=[(0,)])
@@ -69,7 +69,7 @@ def test_bulk_blank_density_means_not_given():
     assert d.run("property/nonpositive") == []
     d.block(m, "density", "iso", [(-0.1,)])
     assert len(d.run("property/nonpositive")) == 1
-    # conductivity has no such default (MAT4 K > 0, formats.md 5.4)
+    # conductivity has no such default (MAT4 K > 0, NASTRAN-95 User's Manual MAT4)
     d.block(m, "conductivity", "iso", [(0.0,)])
     assert len(d.run("property/nonpositive")) == 2
 
@@ -103,7 +103,7 @@ def test_increasing_table_and_plastic_table_fine():
 
 
 def test_missing_temperatures_read_as_zero_in_calculix():
-    # formats.md 2.1: "A missing temperature column is read as 0" (ccx source elastics.f)
+    # "A missing temperature column is read as 0" (ccx source elastics.f)
     d = Deck()
     d.material("M", elastic=[(210000.0, 0.3), (200000.0, 0.3)])
     found = d.run("property/temperature-order")

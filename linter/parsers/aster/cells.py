@@ -178,7 +178,11 @@ class ModelBuilder:
                 continue
             lo, hi = np.searchsorted(idx, [c.first, c.first + c.count])
             if hi > lo:
-                code[idx[lo:hi] - c.first] = k
+                a, b = int(idx[lo]) - c.first, int(idx[hi - 1]) - c.first + 1
+                if b - a == hi - lo and (hi - lo < 2 or bool((idx[lo + 1:hi] > idx[lo:hi - 1]).all())):
+                    code[a:b] = k           # a run of consecutive cells (TOUT, most groups): no fancy index
+                else:
+                    code[idx[lo:hi] - c.first] = k
 
 
 @dataclass

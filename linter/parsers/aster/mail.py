@@ -224,14 +224,24 @@ def _names(buf: bytes, start: int, end: int, every: int, phase: int) -> np.ndarr
 
 
 def _pack(arr: np.ndarray, s: np.ndarray) -> np.ndarray:
-    """The tokens starting at offsets ``s`` of ``arr``, each packed into a uint64 (8 bytes, upper case)."""
+    """The tokens starting at offsets ``s`` of ``arr``, each packed into a uint64 (8 bytes, upper case).
+
+    Eight bytes are read at each start as one little-endian word (an overlapping view of a padded
+    copy), cut at the first byte <= 32 with a bit trick on the word, then the letters a-z are raised."""
     if not len(s):
         return np.zeros(0, np.uint64)
-    idx = np.minimum(s[:, None] + np.arange(8), len(arr) - 1)
-    chars = arr[idx]
-    inside = np.logical_and.accumulate((chars > 32) & (s[:, None] + np.arange(8) < len(arr)), axis=1)
-    chars = np.where((chars >= 97) & (chars <= 122), chars - 32, chars) * inside   # names in upper case
-    return np.ascontiguousarray(chars, dtype=np.uint8).view("<u8").ravel()
+    n = len(arr)
+    buf = np.empty(n + 8, np.uint8)
+    buf[:n] = arr
+    buf[n:] = 32
+    w = np.ndarray((n,), "<u8", buf, 0, (1,))[s]
+    # high bit of each byte below 0x21 (exact for the lowest such byte, which is the one used)
+    flags = (w - np.uint64(0x2121212121212121)) & ~w & np.uint64(0x8080808080808080)
+    lowest = flags & (~flags + np.uint64(1))
+    w &= (lowest >> np.uint64(7)) - np.uint64(1)       # keep the bytes before it (all when there is none)
+    v = w.view(np.uint8)
+    v -= np.uint8(32) * ((v - np.uint8(97)) < 26)      # names in upper case
+    return w
 
 
 # ------------------------------------------------------------------------------------ reading
