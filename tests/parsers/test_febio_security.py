@@ -105,6 +105,16 @@ def test_malformed_xml_gives_the_line(tmp_path):
     assert f.line == text.splitlines().index("\t</Materail>") + 1
 
 
+def test_unknown_encoding_in_the_declaration_is_malformed_not_a_failure(tmp_path):
+    # found by the fuzz suite: expat asks Python for the codec named in the declaration and
+    # Python raises LookupError for a name it does not know
+    text = feb().replace('<?xml version="1.0"', '<?xml version="1.0" encoding="ISO-0-1"', 1)
+    assert 'encoding="ISO-0-1"' in text
+    report = check_text(tmp_path, text)
+    f = _only(report, "parse/xml-malformed")
+    assert "encoding" in f.message and f.line == 1
+
+
 HOSTILE = ["[bold red]markup[/bold red]", "line\u2028break", "a" * 5000, "tab\there",
            "&lt;script&gt;alert(1)&lt;/script&gt;", "../../etc/passwd", "\u202eevil"]
 

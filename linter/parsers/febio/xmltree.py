@@ -133,6 +133,8 @@ def parse_bytes(data: bytes) -> Node:
     except SAXParseException as exc:
         raise XmlRefused("xml-malformed", f"the XML is not well-formed: {exc.getMessage()} "
                                           f"(column {exc.getColumnNumber()})", exc.getLineNumber() or 1) from None
+    except LookupError as exc:  # an encoding name in the XML declaration that Python does not know
+        raise XmlRefused("xml-malformed", f"the XML declares an encoding that cannot be read ({exc})", 1) from None
     except (RecursionError, MemoryError, ValueError, UnicodeError) as exc:
         raise XmlRefused("xml-malformed", f"the XML cannot be read ({type(exc).__name__})",
                          builder._line() or 1) from None
