@@ -11,3 +11,11 @@ CUBE_NODES = """1, 0., 0., 0.
 7, 1., 1., 1.
 8, 0., 1., 1.
 """
+
+#: a 10 x 10 square plate as bulk data lines: four GRIDs (ids 1-4) and one CQUAD4 (id 1, PID 1)
+PLATE_QUAD_BULK = """GRID,1,,0.,0.,0.
+GRID,2,,10.,0.,0.
+GRID,3,,10.,10.,0.
+GRID,4,,0.,10.,0.
+CQUAD4,1,1,1,2,3,4
+"""

@@ -5,6 +5,7 @@ import numpy as np
 import pytest
 
 from builders import Deck
+from decks import PLATE_QUAD_BULK
 from linter.config import Config
 from linter.model import Lazy, Load, Loc, MassSource
 
@@ -392,12 +393,7 @@ CEND
 METHOD = 1
 BEGIN BULK
 EIGRL,1,,,4
-GRID,1,,0.,0.,0.
-GRID,2,,10.,0.,0.
-GRID,3,,10.,10.,0.
-GRID,4,,0.,10.,0.
-CQUAD4,1,1,1,2,3,4
-PSHELL,1,7,2.0,7
+""" + PLATE_QUAD_BULK + """PSHELL,1,7,2.0,7
 MAT1,7,70000.,,0.33{rho}
 ENDDATA
 """

@@ -5,7 +5,7 @@ import pytest
 from linter.physics import plastic as P
 from builders import Deck
 from linter.config import Config
-from decks import CUBE_NODES
+from decks import CUBE_NODES, PLATE_QUAD_BULK
 
 PLASTIC_RULES = ("plastic/first-strain-not-zero", "plastic/strain-not-increasing", "plastic/softening",
                  "plastic/total-strain-given", "plastic/zero-yield", "plastic/yield-vs-modulus")
@@ -198,12 +198,7 @@ def test_end_to_end_bulk_mats1(write_deck):
     path = write_deck("pl.bdf", """SOL 106
 CEND
 BEGIN BULK
-GRID,1,,0.,0.,0.
-GRID,2,,10.,0.,0.
-GRID,3,,10.,10.,0.
-GRID,4,,0.,10.,0.
-CQUAD4,1,1,1,2,3,4
-PSHELL,1,7,2.0,7
+""" + PLATE_QUAD_BULK + """PSHELL,1,7,2.0,7
 MAT1,7,200000.,,0.3,7.85e-9
 MATS1,7,5,PLASTIC
 TABLES1,5

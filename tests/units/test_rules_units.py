@@ -12,6 +12,7 @@ import pytest
 
 from linter import registry
 from units_helpers import material, model, run
+from decks import PLATE_QUAD_BULK
 
 STEEL_MM = dict(E=210000.0, nu=0.3, rho=7.85e-9)
 
@@ -272,12 +273,7 @@ METHOD = 1
 BEGIN BULK
 PARAM,WTMASS,0.00259
 EIGRL,1,,,4
-GRID,1,,0.,0.,0.
-GRID,2,,10.,0.,0.
-GRID,3,,10.,10.,0.
-GRID,4,,0.,10.,0.
-CQUAD4,1,1,1,2,3,4
-PSHELL,1,1,0.1,1
+""" + PLATE_QUAD_BULK + """PSHELL,1,1,0.1,1
 MAT1,1,{E},,0.33,0.1
 ENDDATA
 """
