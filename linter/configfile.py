@@ -11,7 +11,6 @@ YAML) and what is allowed, with the closest valid name when there is one.
 """
 from __future__ import annotations
 
-import difflib
 import functools
 import os
 from pathlib import Path
@@ -51,6 +50,8 @@ def closest(name: str, known) -> str:
     """``; did you mean: X?`` with the closest known names, or an empty string."""
     name = str(name)
     known = sorted(set(known))
+    import difflib  # only for error messages
+
     close = difflib.get_close_matches(name, known, n=3, cutoff=0.6)
     close += [k for k in known if "/" in k and k.split("/", 1)[1] == name and k not in close]
     return f"; did you mean: {', '.join(close[:4])}?" if close else ""

@@ -2,7 +2,6 @@
 fingerprints, the baseline (compare or write), and the SARIF run id."""
 from __future__ import annotations
 
-import hashlib
 import os
 import sys
 from typing import Optional
@@ -54,6 +53,8 @@ def automation_id(args, paths: list[str]) -> str:
     the runs of several shards differ and each upload replaces only its own earlier run."""
     cat = getattr(args, "sarif_category", None)
     if not cat:
+        import hashlib  # imported here: only SARIF runs need it, and it costs start-up time
+
         digest = hashlib.sha256("\n".join(sorted(paths)).encode("utf-8", "surrogateescape")).hexdigest()[:12]
         cat = f"paths-{digest}"
     return f"deckwarden/{cat}/"
@@ -61,11 +62,10 @@ def automation_id(args, paths: list[str]) -> str:
 
 def after_check(result, args, paths: list[str], fmt: str) -> Optional[str]:
     """Fingerprint, compare with or write the baseline; return the fingerprint root (or None)."""
-    from . import baseline as bl
-
     base, write = getattr(args, "baseline", None), getattr(args, "write_baseline", None)
     if not (base or write or fmt in FINGERPRINTED):
         return None
+    from . import baseline as bl  # only when fingerprints are wanted: a plain check skips the import
     roots, texts = bl.fingerprint_run(result, paths, write or base)
     if base:
         try:
