@@ -69,7 +69,8 @@ def not_regular(path: str):
     return f"is {special_kind(mode)}, not a regular file; refused (reading it could block or never end)"
 
 
-def read_deck_bytes(path: str, max_size: int) -> Source:
+def checked_size(path: str, max_size: int) -> int:
+    """The size of a regular file within ``max_size``; else :class:`SourceError` saying why not."""
     try:
         st = os.stat(path)
     except FileNotFoundError:
@@ -85,9 +86,16 @@ def read_deck_bytes(path: str, max_size: int) -> Source:
         raise SourceError("file-too-large",
                           f"file is {st.st_size / 2**20:.1f} MiB, over the limit of {max_size / 2**20:.0f} MiB "
                           "(raise max_file_size_mb to check it)")
+    return st.st_size
+
+
+def read_deck_bytes(path: str, max_size: int) -> Source:
+    size = checked_size(path, max_size)
     try:
         with open(path, "rb") as fh:
-            data = fh.read(max_size + 1)
+            data = fh.read(size + 1)                     # a buffer of the file's size, not of the limit
+            if len(data) > size:                         # the file grew since: read on, up to the limit
+                data += fh.read(max(0, max_size + 1 - len(data)))
     except OSError as exc:
         raise SourceError("file-unreadable", f"cannot read the file ({exc.strerror or exc})") from None
     encoding = "utf-8"
