@@ -243,9 +243,13 @@ def _key(name: str) -> str:
     return norm_key(str(name))
 
 
-def apply(model, findings: list, prefixes: tuple[str, ...]) -> list:
+def apply(model, findings: list, prefixes: tuple[str, ...], deferred: Optional[list] = None) -> list:
     """Mark the findings accepted by comments (``Finding.suppression``); return the findings about the
-    comments themselves (unknown rule ids, bad syntax: warnings; comments that accept nothing: notes)."""
+    comments themselves (unknown rule ids, bad syntax: warnings; comments that accept nothing: notes).
+
+    With a ``deferred`` list, the comments that name a run-level rule (one reported after every deck was
+    checked, ``Rule.run_level``) or its family are appended to it, and their "accepts nothing" note waits
+    for :func:`settle_run_level`."""
     from . import registry
     from .configfile import closest
     from .findings import Finding
@@ -290,11 +294,50 @@ def apply(model, findings: list, prefixes: tuple[str, ...]) -> list:
                 f.suppression = s.describe()
                 s.used += 1
                 break
+    run_level = {r.id for r in rules.values() if r.run_level}
     for s in sups:
+        if deferred is not None and s.rules and any(_names(r, rid) for r in s.rules for rid in run_level):
+            deferred.append(s)
+            continue
         if s.rules and not s.used:
-            where = {"next": "the next card", "file": "this file"}.get(s.scope, f"material {s.material}")
-            extra.append(Finding(rule=UNUSED_RULE, severity="note", path=s.path, line=s.line,
-                                 message=f"suppression of {', '.join(s.rules)} for {where} accepts no finding; "
-                                         "remove it if the problem is gone",
-                                 data={"rules": list(s.rules), "scope": s.describe()["scope"]}))
+            extra.append(_unused(s))
     return extra
+
+
+def _names(entry: str, rule_id: str) -> bool:
+    """Whether a suppression's entry (a rule id or a family) names ``rule_id``."""
+    return entry == rule_id or entry == rule_id.split("/", 1)[0]
+
+
+def _unused(s: Suppression):
+    from .findings import Finding
+
+    where = {"next": "the next card", "file": "this file"}.get(s.scope, f"material {s.material}")
+    return Finding(rule=UNUSED_RULE, severity="note", path=s.path, line=s.line,
+                   message=f"suppression of {', '.join(s.rules)} for {where} accepts no finding; "
+                           "remove it if the problem is gone",
+                   data={"rules": list(s.rules), "scope": s.describe()["scope"]})
+
+
+def settle_run_level(result, config) -> None:
+    """After the run-level stages: mark their findings accepted by the decks' deferred comments
+    (``FileReport.deferred``) and add the "accepts nothing" note for each comment that accepted nothing."""
+    for fr in result.files:
+        sups = getattr(fr, "deferred", None) or []
+        if not sups:
+            continue
+        added = []
+        for f in fr.findings:
+            if f.suppression is not None:
+                continue
+            for s in sups:
+                if _covers(s, f):
+                    f.suppression = s.describe()
+                    s.used += 1
+                    break
+        for s in sups:
+            if not s.used and config.rule_enabled(UNUSED_RULE):
+                added.append(_unused(s))
+        fr.deferred = []
+        if added:
+            fr.findings.extend(added)
