@@ -137,7 +137,7 @@ def not_positive_definite(model, ctx):
 
 
 def _fluid_like(mat, entry) -> bool:
-    """An orthotropic D-value block whose every row has six equal normal terms (D1111 = D1122 = ... = K:
+    """An orthotropic D-value block whose every row has six equal normal terms (D1111 = D1122 = ... = K > 0:
     the hydrostatic stiffness of a fluid) and no negative shear term."""
     if entry.get("form") != "ortho":
         return False
@@ -153,7 +153,8 @@ def _fluid_like(mat, entry) -> bool:
     for r in blk.rows:
         v = r.values
         n = [v[i] for i in normal]
-        if any(v[i] < 0 for i in shear) or min(n) < 0 or max(n) - min(n) > 1e-9 * max(abs(max(n)), 1e-300):
+        # a bulk stiffness K > 0; equal to round-off: within 1e-9 of the largest term
+        if any(v[i] < 0 for i in shear) or min(n) <= 0 or max(n) - min(n) > 1e-9 * max(n):
             return False
     return True
 
