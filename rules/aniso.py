@@ -141,15 +141,10 @@ def _fluid_like(mat, entry) -> bool:
     the hydrostatic stiffness of a fluid) and no negative shear term."""
     if entry.get("form") != "ortho":
         return False
-    blk = next((b for b in mat.blocks if b.kind == "elastic" and b.form == "ortho"
-                and b.loc.line == entry.get("line")), None)
-    if blk is None or not blk.rows:
-        return False
+    blk = mat.blocks[entry["block"]]          # the *ELASTIC,TYPE=ORTHO block (layout of linter.model)
     lay = list(blk.layout)
-    normal = [lay.index(k) for k in ("D1111", "D1122", "D2222", "D1133", "D2233", "D3333") if k in lay]
-    shear = [lay.index(k) for k in ("D1212", "D1313", "D2323") if k in lay]
-    if len(normal) != 6 or len(shear) != 3:
-        return False
+    normal = [lay.index(k) for k in ("D1111", "D1122", "D2222", "D1133", "D2233", "D3333")]
+    shear = [lay.index(k) for k in ("D1212", "D1313", "D2323")]
     for r in blk.rows:
         v = r.values
         n = [v[i] for i in normal]

@@ -69,6 +69,9 @@ def test_equal_means_equal_to_round_off_relative_to_the_terms(write_deck):
     k = 1.41e5
     # a difference in the 13th digit is round-off of a printed value: still six equal terms
     assert _severity(write_deck, _row([k, k, k * (1 + 1e-12), k, k, k], 0.0)) == "warning"
+    # the limit is 1e-9 of the largest term
+    assert _severity(write_deck, _row([k, k, k * (1 - 0.9e-9), k, k, k], 0.0)) == "warning"
+    assert _severity(write_deck, _row([k, k, k * (1 - 1.5e-9), k, k, k], 0.0)) == "error"
     # one part in a million is a typed difference: a singular solid, an error
     assert _severity(write_deck, _row([k, k, k * (1 + 1e-6), k, k, k], 0.0)) == "error"
     # the tolerance is relative: the same one part in a million with K in GPa (air: 1.41e-4 GPa)
