@@ -71,7 +71,8 @@ def check_file(path: str, fmt: str, config: Config, policy: IncludePolicy, detai
     if getattr(config, "inline_suppressions", True):
         from .suppressions import apply
 
-        notes = [f for f in apply(model, report.findings, getattr(mod, "COMMENT_PREFIXES", ()))
+        notes = [f for f in apply(model, report.findings, getattr(mod, "COMMENT_PREFIXES", ()),
+                                  deferred=report.deferred)
                  if config.rule_enabled(f.rule)]
         if notes:
             report.findings = finalize(report.findings + notes, config)
@@ -171,5 +172,9 @@ def check_paths(paths: list[str], config: Optional[Config] = None, jobs: Optiona
         from .drift import material_drift   # run-level stage: materials compared across decks
 
         material_drift(result, config)
+    if any(fr.deferred for fr in result.files):
+        from .suppressions import settle_run_level   # comments that accept run-level findings
+
+        settle_run_level(result, config)
     result.incomplete = registry.makes_incomplete(result.general) or any(f.incomplete for f in result.files)
     return result

@@ -78,6 +78,8 @@ class FileReport:
     #: the audit's facts (file hashes, includes, element grades, steps, usage map, unit labels), only when
     #: the check was asked for them (``linter.review_facts.model_details``)
     details: dict[str, Any] = field(default_factory=dict)
+    #: suppression comments of run-level rules, settled after the run-level stages (not reported)
+    deferred: list[Any] = field(default_factory=list)
 
     def to_dict(self) -> dict[str, Any]:
         out: dict[str, Any] = {

@@ -46,6 +46,9 @@ class Rule:
     #: the thresholds (dotted keys of ``linter/data/thresholds.yaml``) the rule reads, directly or through
     #: the derivation it reports on (``deckwarden explain`` lists them with their values)
     thresholds: tuple[str, ...] = ()
+    #: reported by a run-level stage after every deck was checked (it compares decks): the decks' suppression
+    #: comments of it are settled then (``linter.suppressions.settle_run_level``)
+    run_level: bool = False
 
     @property
     def family(self) -> str:

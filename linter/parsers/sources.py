@@ -5,9 +5,11 @@ line ends; :func:`read_deck_bytes` delivers exactly that and says what it did.
 """
 from __future__ import annotations
 
+import io
 import os
 import stat
 from dataclasses import dataclass
+from typing import Optional
 
 BOMS = (
     (b"\xef\xbb\xbf", "utf-8-sig"),
@@ -69,7 +71,12 @@ def not_regular(path: str):
     return f"is {special_kind(mode)}, not a regular file; refused (reading it could block or never end)"
 
 
-def read_deck_bytes(path: str, max_size: int) -> Source:
+#: bytes read at a time when characters are replaced while reading
+READ_BLOCK = 1 << 20
+
+
+def checked_size(path: str, max_size: int) -> int:
+    """The size of a regular file within ``max_size``; else :class:`SourceError` saying why not."""
     try:
         st = os.stat(path)
     except FileNotFoundError:
@@ -85,9 +92,22 @@ def read_deck_bytes(path: str, max_size: int) -> Source:
         raise SourceError("file-too-large",
                           f"file is {st.st_size / 2**20:.1f} MiB, over the limit of {max_size / 2**20:.0f} MiB "
                           "(raise max_file_size_mb to check it)")
+    return st.st_size
+
+
+def read_deck_bytes(path: str, max_size: int, tabs_to: Optional[bytes] = None) -> Source:
+    """The deck's bytes (see the module docstring). ``tabs_to``: every TAB becomes this one byte, the same
+    as ``read_deck_bytes(path, max_size).data.replace(b"\\t", tabs_to)`` but done block by block while
+    reading, so that the file is held once (no second full-size copy)."""
+    size = checked_size(path, max_size)
     try:
         with open(path, "rb") as fh:
-            data = fh.read(max_size + 1)
+            if tabs_to is None:
+                data = fh.read(size + 1)                 # a buffer of the file's size, not of the limit
+                if len(data) > size:                     # the file grew since: read on, up to the limit
+                    data += fh.read(max(0, max_size + 1 - len(data)))
+            else:
+                data = _read_replacing(fh, size, max_size, tabs_to)
     except OSError as exc:
         raise SourceError("file-unreadable", f"cannot read the file ({exc.strerror or exc})") from None
     encoding = "utf-8"
@@ -100,6 +120,8 @@ def read_deck_bytes(path: str, max_size: int) -> Source:
             data = data.decode(encoding).encode("utf-8")
         except UnicodeDecodeError:
             raise SourceError("binary-file", f"starts with a {encoding} byte-order mark but does not decode") from None
+        if tabs_to is not None and b"\t" in data:     # the bytes were read as they are: replace after decoding
+            data = data.replace(b"\t", tabs_to)
         if data.startswith(b"\xef\xbb\xbf"):
             data = data[3:]
     elif encoding == "utf-8-sig":
@@ -119,6 +141,40 @@ def read_deck_bytes(path: str, max_size: int) -> Source:
         except UnicodeDecodeError:
             encoding = "latin-1"
     return Source(path=path, data=data, encoding=encoding, line_ends=line_ends)
+
+
+def _read_replacing(fh, size: int, max_size: int, new: bytes) -> bytes:
+    """Up to ``max_size + 1`` bytes of ``fh`` with every TAB made ``new``, replaced block by block in the
+    one buffer the result is made of (``io.BytesIO.getvalue`` hands that buffer over without a copy).
+    A file that starts with a UTF-16 byte-order mark is read as it is (its bytes are not ASCII text)."""
+    bio = io.BytesIO(bytes(min(size, max_size + 1)))      # zero pages: memory is taken as they are filled
+    table = bytes.maketrans(b"\t", new)
+    got, done, utf16 = 0, 0, None
+    with bio.getbuffer() as view:
+        while got < len(view):
+            n = fh.readinto(view[got:got + READ_BLOCK])
+            got += n
+            if utf16 is None and (got >= 2 or not n):      # a byte-order mark needs two bytes to be seen
+                utf16 = any(bytes(view[:2]) == bom for bom, enc in BOMS if enc.startswith("utf-16"))
+            if utf16 is False:
+                block = bytes(view[done:got])
+                if b"\t" in block:
+                    view[done:got] = block.translate(table)
+                done = got
+            if not n:
+                break
+    if got < size:                                       # the file is shorter than when it was stat'ed
+        bio.truncate(got)
+    elif got <= max_size:                                # ... or longer: the rest, up to the limit
+        rest = fh.read(max_size + 1 - got)
+        if rest:
+            if utf16 is None:                            # the file was empty when it was stat'ed
+                utf16 = any(rest.startswith(bom) for bom, enc in BOMS if enc.startswith("utf-16"))
+            bio.seek(got)
+            bio.write(rest if utf16 else rest.replace(b"\t", new))
+    data = bio.getvalue()
+    del bio
+    return data
 
 
 def text(raw: bytes) -> str:

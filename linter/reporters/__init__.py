@@ -187,7 +187,7 @@ def number(value: Any) -> str:
 
 
 #: bookkeeping and input keys a derived mapping may repeat: not worth showing as "derived"
-_NOT_DERIVED = {"T", "temperature", "line", "path", "block", "index", "row", "E", "nu", "confidence"}
+_NOT_DERIVED = {"T", "temperature", "line", "path", "block", "index", "row", "worst_row", "E", "nu", "confidence"}
 
 
 def key_numbers(derived: Any, limit: int = 4) -> list[tuple[str, str]]:

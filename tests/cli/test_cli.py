@@ -12,7 +12,8 @@ import pytest
 
 import linter.check
 from linter import __version__, registry
-from linter.cli import main, rules_markdown
+from linter.cli import main
+from linter.cli_rules import rules_markdown
 
 from decks import TET_MESH as MESH
 

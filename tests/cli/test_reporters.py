@@ -185,3 +185,13 @@ def test_dump_json_is_the_same_document_as_the_standard_encoder():
     assert '    {"b": [2.5, null, "ü"], "c": {}},' in lines          # depth 2: the items of "a" on one line each
     with pytest.raises(ValueError):
         dump_json({"x": float("nan")}, 1)
+
+
+def test_key_numbers_leave_out_bookkeeping_indices():
+    """The text report's "derived" column shows quantities, not the derivation's row index."""
+    from linter.reporters import key_numbers
+    hyper = {"model": "mooney-rivlin", "line": 12, "worst_row": 0, "mu0": 2.0, "K0": 2000.0,
+             "nu0": 0.4995, "rows": [{"line": 13, "mu0": 2.0}]}
+    names = [name for name, _ in key_numbers(hyper)]
+    assert "worst_row" not in names and "line" not in names
+    assert names[:3] == ["mu0", "K0", "nu0"]

@@ -163,6 +163,8 @@ def test_rigid_body_and_fluid(tmp_path):
     m = parse_text(tmp_path, feb(mats))
     assert not m.materials["Plate"].has("elastic") and m.materials["Plate"].has("density")
     assert m.materials["Plate"].has("user")
+    # the unchecked law keeps the FEBio type as its form, so reports say what it is
+    assert _block(m, "Plate", "user").form == "rigid body"
     assert _block(m, "Oil", "other", "fluid").rows[0].values == (1500.0,)
 
 

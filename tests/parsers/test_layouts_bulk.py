@@ -14,7 +14,7 @@ import numpy as np
 import pytest
 from benchload import load
 
-from linter.parsers import ParseOptions
+from linter.parsers import ParseOptions, sources
 from linter.parsers.bulk import lines as bl
 from linter.parsers.bulk import parser as B
 
@@ -45,6 +45,7 @@ def read(path, how: str, monkeypatch):
         if how == "small-blocks":
             mp.setattr(bl, "BLOCK", 4096)
             mp.setattr(bl, "SMALL", 512)
+            mp.setattr(sources, "READ_BLOCK", 37)   # TABs replaced while reading: block edges everywhere
         elif how == "cards":             # no run block, no column-wise line table: one Card per entry
             mp.setattr(B, "accept_run", lambda *a: None)
             mp.setattr(B, "read_fast", lambda st, name, lines, idx, heads, nl, large, display: np.arange(heads.size))
@@ -126,3 +127,25 @@ def test_coordinate_system_on_grids_of_fixed_field_runs(write_deck, monkeypatch)
     assert m.geometry.bbox_max[2] == pytest.approx(1003.0)     # the CP 5 node, moved by the system
     gid, xyz = m.geometry.nodes.get()
     np.testing.assert_allclose(xyz[gid == n + 1][0], [1.0, 2.0, 1003.0])
+
+
+def test_tab_deck_that_changes_while_read_is_reported_not_misread(write_deck, monkeypatch):
+    # a TAB deck is read a second time with the TABs replaced while reading; when that read no longer
+    # gives the bytes of the first one in size, the file is unreadable (top deck) or the include is
+    text, _coords, _ne = deck("tab", (4, 3, 2))
+    inc = write_deck("mesh.bdf", text.split("BEGIN BULK\n", 1)[1])
+    top = write_deck("top.bdf", "SOL 101\nCEND\nBEGIN BULK\nINCLUDE 'mesh.bdf'\nENDDATA\n")
+    real = B.read_deck_bytes
+
+    def shrinking(path, max_size, tabs_to=None):
+        src = real(path, max_size, tabs_to)
+        if tabs_to is not None:
+            src.data = src.data[:-10]
+        return src
+
+    monkeypatch.setattr(B, "read_deck_bytes", shrinking)
+    m = B.parse(str(top), ParseOptions())
+    bad = [i for i in m.issues if i.code == "include-unreadable"]
+    assert len(bad) == 1 and "changed while it was being read" in bad[0].message
+    with pytest.raises(B.SourceError):
+        B.parse(str(inc), ParseOptions())

@@ -6,6 +6,7 @@ import pytest
 
 from linter.parsers.includes import IncludePolicy, IncludeTracker
 from linter.model import DeckModel, ElementBlock, ElementSet, Lazy, Loc, MaterialRef, Section
+from linter.parsers import sources
 from linter.parsers.sources import SourceError, read_deck_bytes
 from linter.usage import element_types_of, material_usage, resolve_set, unassigned
 
@@ -37,6 +38,29 @@ def test_binary_and_size_limit(write_deck):
     with pytest.raises(SourceError) as err:
         read_deck_bytes(str(p.parent / "missing.inp"), 100)
     assert err.value.code == "file-unreadable"
+
+
+@pytest.mark.parametrize("block", [1, 3, 64, 1 << 20])
+def test_tabs_replaced_while_reading_equal_replace_after_reading(write_deck, monkeypatch, block):
+    # the block-wise replacement must give exactly what bytes.replace gives on the whole file, whatever
+    # the block edges, byte-order mark, line ends or encoding (U+0109 is the bytes 09 01 in UTF-16-LE:
+    # not a TAB, so UTF-16 files are replaced after decoding)
+    monkeypatch.setattr(sources, "READ_BLOCK", block)
+    bodies = {
+        "plain.bdf": b"GRID\t1\t\t0.\t0.\t0.\nCHEXA\t1\t1\t1\t2\t3\t4\t5\t6\t+\n+\t7\t8\n\t\t\n",
+        "bom-crlf.bdf": b"\xef\xbb\xbfGRID\t1\t\t0.\r\n\tSOL\t101\r\n",
+        "latin1.bdf": "$ Stahl_\u00e4\tx\nGRID\t2\t\t1.\n".encode("latin-1"),
+        "utf16.bdf": "GRID\t3\t\t\u0109.\n\t\n".encode("utf-16"),
+        "no-tab.bdf": b"GRID,1,,0.,0.,0.\n",
+        "empty.bdf": b"",
+    }
+    for name, body in bodies.items():
+        p = write_deck(name, body)
+        plain = read_deck_bytes(str(p), 1 << 20)
+        got = read_deck_bytes(str(p), 1 << 20, tabs_to=b",")
+        assert got.data == plain.data.replace(b"\t", b","), name
+        assert (got.encoding, got.line_ends) == (plain.encoding, plain.line_ends), name
+    assert b"\t" not in got.data
 
 
 def test_include_policy(tmp_path):

@@ -137,12 +137,12 @@ def includes_of(path: str, options) -> list[str]:
 
 def _scan(st: _State, path: str, display: str, src, mode: str) -> None:
     model = st.model
+    raw = _without_tabs(path, src, st.options.max_file_size)
+    src.data = b""          # keep one copy of the file in memory
     model.files.append(display)
     st.tracker.stack.append(os.path.realpath(path))
     if src.encoding not in ("utf-8",):
         model.issues.append(Issue("encoding", f"{display} is read as {src.encoding}, not UTF-8", Loc(display, 1)))
-    raw = src.data.replace(b"\t", b",") if b"\t" in src.data else src.data
-    src.data = b""          # keep one copy of the file in memory
     begin = _BEGIN.search(raw) if mode == "exec" else None
     lo_byte = 0
     if begin is not None:
@@ -173,6 +173,22 @@ def _scan(st: _State, path: str, display: str, src, mode: str) -> None:
         st.saw_bulk, lo = True, end_exec + 1
     _bulk_lines(st, lines, data, lo, n, display, path)
     st.tracker.stack.pop()
+
+
+def _without_tabs(path: str, src, max_size: int) -> bytes:
+    """The file's bytes with every TAB made a comma (a TAB separates fields as a comma does, as MYSTRAN reads
+    them). ``src.data`` is dropped and the file read again with the TABs replaced while reading
+    (``read_deck_bytes(tabs_to=)``), so that it is never held twice. A file that can no longer be read, or
+    changed size in between, is a ``SourceError``."""
+    data = src.data
+    if b"\t" not in data:
+        return data
+    size = len(data)
+    src.data = data = b""
+    again = read_deck_bytes(path, max_size, tabs_to=b",").data
+    if len(again) != size:
+        raise SourceError("file-unreadable", "the file changed while it was being read")
+    return again
 
 
 def _exec_lines(st, data, lines, lo, hi, display, path) -> None:
@@ -226,10 +242,14 @@ def _include(st: _State, written: str, line: int, display: str, path: str, mode:
         model.issues.append(Issue("include-unreadable", f"included file '{written}': {exc.message}", loc,
                                   data={"include": written}))
         return
-    if mode == "exec" and not _BEGIN.search(src.data):
-        _scan(st, res.path, res.path, src, "exec")
-    else:
-        _scan(st, res.path, res.path, src, "exec" if mode == "exec" else "bulk")
+    try:
+        if mode == "exec" and not _BEGIN.search(src.data):
+            _scan(st, res.path, res.path, src, "exec")
+        else:
+            _scan(st, res.path, res.path, src, "exec" if mode == "exec" else "bulk")
+    except SourceError as exc:          # changed while it was read
+        model.issues.append(Issue("include-unreadable", f"included file '{written}': {exc.message}", loc,
+                                  data={"include": written}))
 
 
 def _bulk_lines(st: _State, lines: Lines, data: bytes, lo: int, hi: int, display: str, path: str) -> None:

@@ -11,7 +11,7 @@ Conventions (FEBio User's Manual 4.0, chapter 4 "Materials"; sections named besi
 * ``orthotropic elastic``: E1..E3, v12, v23, v31, G12, G23, G31. The neutral engineering layout holds nu13;
   reciprocity nu13/E1 = nu31/E3 gives nu13 = v31 E1/E3.
 * uncoupled laws also give a ("other", "uncoupled-bulk") block (k, mu0) for the penalty checks.
-* laws the checks do not read (fibres, rigid bodies, permeability, ...) give a ("user", "febio") block so
+* laws the checks do not read (fibres, rigid bodies, permeability, ...) give a ("user", <FEBio type>) block so
   the model knows the material has a mechanical law, and an ``Unchecked`` entry with its line.
 """
 from __future__ import annotations
@@ -98,7 +98,7 @@ class MaterialReader:
         return blk
 
     def opaque(self, mat, node, ftype, where, reason="law not checked") -> None:
-        mat.blocks.append(PropertyBlock("user", "febio", [], self.loc(node), card=ftype,
+        mat.blocks.append(PropertyBlock("user", ftype or "febio", [], self.loc(node), card=ftype,
                                         options={"febio_type": ftype}))
         self.unchecked.append(Unchecked(f"{where}{ftype}", self.loc(node), reason, material=mat.name))
 

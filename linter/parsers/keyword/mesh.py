@@ -5,6 +5,10 @@ Nothing here makes one Python object per node or element: counts come from
 """
 from __future__ import annotations
 
+import io
+import warnings
+from typing import Optional
+
 import numpy as np
 
 from ...model import ElementBlock, ElementSet, Lazy, Loc, norm_key
@@ -204,8 +208,47 @@ def _all_nodes(ranges) -> tuple[np.ndarray, np.ndarray]:
     total = sum(d.count(b"\n", s, e) + 1 for d, s, e in ranges)     # at least the data lines
     gid, xyz, n = np.zeros(total, dtype=np.int64), np.zeros((total, 3)), 0
     for d, s, e in ranges:                  # filled piece by piece: no full-size temporary
-        for c, _last in rows.pieces(d, s, e):
-            tab = rows.node_table(c)
+        for a, b in _line_pieces(d, s, e, rows.PIECE):
+            tab = plain_rows(d[a:b], 4)
+            if tab is None:
+                tab = rows.node_table(rows.compact(d[a:b]))
             gid[n:n + tab.shape[0]], xyz[n:n + tab.shape[0]] = rows.to_int(tab[:, 0]), tab[:, 1:]
             n += tab.shape[0]
     return gid[:n], xyz[:n]
+
+
+def _line_pieces(data: bytes, start: int, end: int, size: int):
+    """Byte ranges of about ``size`` bytes covering ``data[start:end]``, cut after line ends."""
+    at = start
+    while at < end:
+        stop = end if end - at <= size else data.rfind(b"\n", at, at + size) + 1
+        if stop <= at:
+            stop = data.find(b"\n", at + size, end) + 1 or end
+        yield at, stop
+        at = stop
+
+
+def plain_rows(chunk: bytes, width: int) -> Optional[np.ndarray]:
+    """(lines, width) float64 table of data lines that all hold the same number of plain numbers separated
+    by commas (blanks around them allowed; missing fields 0, fields after ``width`` not kept), read by
+    numpy's C text reader; None for anything else (blank fields, trailing commas, comment lines, Fortran
+    ``D`` exponents, a blank inside a number, a value that is not finite ...), which ``rows`` reads as CalculiX
+    does. Where it gives a table, it is the one ``rows.node_table(rows.compact(chunk))`` gives: both
+    convert each field with a correctly rounding decimal-to-double conversion (``tests/parsers/
+    test_keyword_nodes.py`` compares them bit for bit)."""
+    if not chunk or chunk.isspace() or b"*" in chunk or b"\x0b" in chunk or b"\x0c" in chunk:
+        return None
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            tab = np.loadtxt(io.BytesIO(chunk), delimiter=",", dtype=np.float64, comments=None, ndmin=2,
+                             encoding="latin-1")
+    except (ValueError, TypeError, UnicodeError):
+        return None
+    if not np.isfinite(tab).all():
+        return None
+    if tab.shape[1] >= width:
+        return tab[:, :width] if tab.shape[1] > width else tab
+    out = np.zeros((tab.shape[0], width))
+    out[:, :tab.shape[1]] = tab
+    return out
