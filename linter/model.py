@@ -443,6 +443,9 @@ class DeckModel:
     derived: dict[str, Any] = field(default_factory=dict)
     #: format-specific extras a format's own rules may read (documented by each parser)
     extras: dict[str, Any] = field(default_factory=dict)
+    #: the text a parser read, per file as named in ``files`` (bytes or a read-only mmap, ``\n`` line ends):
+    #: the suppression scan and the fingerprints read it instead of the file (``linter/parsers/buffers.py``)
+    texts: dict[str, Any] = field(default_factory=dict, repr=False, compare=False)
 
     # -- convenience -------------------------------------------------------------------
 

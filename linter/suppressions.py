@@ -13,17 +13,17 @@ Syntax (after the format's own comment marker, ``COMMENT_PREFIXES`` of its parse
   file of the deck;
 * ``for file``: every finding located in the file that holds the comment.
 
-The scan is generic: it reads the bytes of every file of a deck (top file and includes) in blocks,
-looks for the word ``deckwarden`` and keeps the lines where it follows a comment marker. Card starts
+The scan is generic: it reads the text of every file of a deck (top file and includes), the one the
+parser kept (``DeckModel.texts``) or else the file, looks for the word ``deckwarden`` and keeps the
+lines where it follows a comment marker. Card starts
 come from the neutral model (every item carries a file and line), so a new format needs no code here.
 """
 from __future__ import annotations
 
 import re
 from dataclasses import dataclass, field
-from typing import Any, Iterable, Optional
+from typing import Any, Optional
 
-BLOCK = 1 << 20
 MARKERS = (b"deckwarden", b"DECKWARDEN", b"Deckwarden")
 _ONE_BYTE = (b"w", b"W")          # every marker holds one of these: a block without them has no marker
 assert all(any(c in m for c in _ONE_BYTE) for m in MARKERS)
@@ -81,135 +81,73 @@ def _is_code(line: bytes, prefixes: tuple[bytes, ...]) -> bool:
     return bool(s) and not any(s.startswith(p) for p in prefixes)
 
 
-def has_marker(path: str, prefixes: tuple[str, ...]) -> bool:
-    """Does a comment of the file (a line part from a comment marker on) hold "deckwarden" and "accept"?
-
-    One pass of block reads into one reused buffer; each comment marker is found by its first byte
-    (a one-byte search runs at memory speed) and only the lines that hold a marker are looked at, so the
-    usual case, a deck without suppressions, costs little more than reading it."""
-    firsts = sorted({p.encode()[:1] for p in prefixes if p})
-    full = [p.encode() for p in prefixes if p]
-    buf = bytearray(BLOCK)
-    view = memoryview(buf)
-    carry = 0
-    try:
-        with open(path, "rb", buffering=0) as fh:
-            while True:
-                if carry >= len(buf):                      # keep room to read into
-                    view.release()
-                    buf.extend(bytes(len(buf)))
-                    view = memoryview(buf)
-                n = fh.readinto(view[carry:])
-                end = carry + n
-                last = end if not n else buf.rfind(b"\n", 0, end) + 1
-                if n and last == 0:                    # a line longer than the buffer: grow it
-                    view.release()
-                    buf.extend(bytes(len(buf)))
-                    view = memoryview(buf)
-                    carry = end
-                    continue
-                for first in firsts:
-                    pos = buf.find(first, 0, last)
-                    while pos >= 0:
-                        stop = buf.find(b"\n", pos, last)
-                        stop = last if stop < 0 else stop
-                        if any(buf.startswith(p, pos) for p in full):
-                            low = bytes(buf[pos:stop]).lower()
-                            if b"deckwarden" in low and b"accept" in low:
-                                return True
-                        pos = buf.find(first, stop, last)
-                if not n:
-                    return False
-                rest = end - last
-                buf[:rest] = buf[last:end]
-                carry = rest
-    except OSError:
-        return False
-
-
 def scan_file(path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
-    """The suppression comments of one file, each with the line of the next code line (``target``).
+    """The suppression comments of one file (read through :func:`linter.parsers.buffers.open_text`: a large
+    plain file is mapped, not copied), for formats whose parser keeps no text (``DeckModel.texts``)."""
+    from .parsers import buffers
 
-    Reads the file in blocks of 1 MiB; memory does not grow with the file. A file without the word
-    deckwarden is only searched (:func:`has_marker`), not split into lines.
-    """
-    if not has_marker(path, prefixes):
+    try:
+        data = buffers.open_text(path, 1 << 62).data
+    except buffers.SourceError:
         return []
+    return scan_text(data, path, prefixes)
+
+
+def scan_text(data, path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
+    """The suppression comments of a file's text (bytes or a mapped file), each with the line of the next
+    code line (``target``).
+
+    Only the places of a marker word are looked at: they are found by one-byte searches for the ``w`` of
+    ``deckwarden`` (a search at memory speed; numbers never hold it), so the usual deck, without
+    suppressions, costs one pass over its text and is never split into lines."""
+    from .parsers import buffers
+
     bprefixes = tuple(p.encode() for p in prefixes)
     found: list[Suppression] = []
-    pending: list[Suppression] = []       # waiting for their next code line
-    line_no = 0                           # lines before the current block
-    rest = b""
-    try:
-        fh = open(path, "rb")
-    except OSError:
-        return found
-    with fh:
-        while True:
-            chunk = fh.read(BLOCK)
-            data = rest + chunk
-            if not chunk:
-                end = len(data)
-            else:
-                end = data.rfind(b"\n") + 1
-                if end == 0:
-                    rest = data
-                    continue
-            block, rest = data[:end], data[end:]
-            pos = 0
-            while pending and pos < len(block):       # the next code line of a comment in an earlier block
-                nl = block.find(b"\n", pos)
-                nl = len(block) if nl < 0 else nl
-                if _is_code(block[pos:nl], bprefixes):
-                    n = line_no + block.count(b"\n", 0, pos) + 1
-                    for s in pending:
-                        s.target = n
-                    pending = []
-                pos = nl + 1
-            maybe = any(c in block for c in _ONE_BYTE)        # one-byte searches rule out most blocks
-            hits = sorted({i for m in MARKERS for i in _find_all(block, m)}) if maybe else []
-            last_line_start = -1
-            for at in hits:
-                start = block.rfind(b"\n", 0, at) + 1
-                if start == last_line_start:
-                    continue
-                last_line_start = start
-                stop = block.find(b"\n", at)
-                stop = len(block) if stop < 0 else stop
-                line = block[start:stop].decode("utf-8", "replace")
-                text, trailing = _comment_text(line, prefixes)
-                if text is None:
-                    continue
-                m = _HEAD.match(text)
-                if not m:
-                    continue
-                n = line_no + block.count(b"\n", 0, start) + 1
-                sup = parse_directive(m.group("rest"), path, n)
-                found.append(sup)
-                if trailing:
-                    sup.target = n
-                    continue
-                pos = stop + 1
-                while pos < len(block):
-                    nl = block.find(b"\n", pos)
-                    nl = len(block) if nl < 0 else nl
-                    if _is_code(block[pos:nl], bprefixes):
-                        sup.target = line_no + block.count(b"\n", 0, pos) + 1
-                        break
-                    pos = nl + 1
-                else:
-                    pending.append(sup)
-            line_no += block.count(b"\n")
-            if not chunk:
+    at_line = (0, 1)                      # (offset of a line start, its line): line numbers counted onwards
+    last_start = -1
+    for at in _marker_places(data, buffers):
+        start = data.rfind(b"\n", 0, at) + 1
+        if start == last_start:
+            continue
+        last_start = start
+        stop = data.find(b"\n", at)
+        stop = len(data) if stop < 0 else stop
+        line = bytes(data[start:stop]).decode("utf-8", "replace")
+        text, trailing = _comment_text(line, prefixes)
+        if text is None:
+            continue
+        m = _HEAD.match(text)
+        if not m:
+            continue
+        n = buffers.line_number(data, start, at_line)
+        at_line = (start, n)
+        sup = parse_directive(m.group("rest"), path, n)
+        found.append(sup)
+        if trailing:
+            sup.target = n
+            continue
+        pos, k = stop + 1, n + 1
+        while pos < len(data):
+            nl = data.find(b"\n", pos)
+            nl = len(data) if nl < 0 else nl
+            if _is_code(bytes(data[pos:nl]), bprefixes):
+                sup.target = k
                 break
+            pos, k = nl + 1, k + 1
     return found
 
 
-def _find_all(data: bytes, word: bytes) -> Iterable[int]:
-    i = data.find(word)
-    while i >= 0:
-        yield i
-        i = data.find(word, i + 1)
+def _marker_places(data, buffers) -> list[int]:
+    """Where one of ``MARKERS`` starts in ``data``, in order."""
+    out = set()
+    for one in _ONE_BYTE:
+        spellings = [(m, m.find(one)) for m in MARKERS if one in m]
+        for i in buffers.find_all(data, one):
+            for m, k in spellings:
+                if i >= k and data[i - k:i - k + len(m)] == m:
+                    out.add(i - k)
+    return sorted(out)
 
 
 def parse_directive(rest: str, path: str, line: int) -> Suppression:
@@ -321,8 +259,10 @@ def apply(model, findings: list, prefixes: tuple[str, ...], deferred: Optional[l
     sups: list[Suppression] = []
     # a format whose files include data without comments (the meshes of the material-file route) lists
     # the files that carry its comments in extras["commented_files"]
+    texts = getattr(model, "texts", None) or {}
     for path in dict.fromkeys(model.extras.get("commented_files") or model.files or [model.path]):
-        sups.extend(scan_file(path, prefixes))
+        text = texts.get(path)           # the text the parser read: no second read of the file
+        sups.extend(scan_file(path, prefixes) if text is None else scan_text(text, path, prefixes))
     if not sups:
         return []
     _resolve(sups, model)

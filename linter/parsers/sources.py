@@ -75,10 +75,8 @@ def not_regular(path: str):
 READ_BLOCK = 1 << 20
 
 
-def read_deck_bytes(path: str, max_size: int, tabs_to: Optional[bytes] = None) -> Source:
-    """The deck's bytes (see the module docstring). ``tabs_to``: every TAB becomes this one byte, the same
-    as ``read_deck_bytes(path, max_size).data.replace(b"\\t", tabs_to)`` but done block by block while
-    reading, so that the file is held once (no second full-size copy)."""
+def checked_size(path: str, max_size: int) -> int:
+    """The size of a regular file within ``max_size``; else :class:`SourceError` saying why not."""
     try:
         st = os.stat(path)
     except FileNotFoundError:
@@ -94,9 +92,22 @@ def read_deck_bytes(path: str, max_size: int, tabs_to: Optional[bytes] = None) -
         raise SourceError("file-too-large",
                           f"file is {st.st_size / 2**20:.1f} MiB, over the limit of {max_size / 2**20:.0f} MiB "
                           "(raise max_file_size_mb to check it)")
+    return st.st_size
+
+
+def read_deck_bytes(path: str, max_size: int, tabs_to: Optional[bytes] = None) -> Source:
+    """The deck's bytes (see the module docstring). ``tabs_to``: every TAB becomes this one byte, the same
+    as ``read_deck_bytes(path, max_size).data.replace(b"\\t", tabs_to)`` but done block by block while
+    reading, so that the file is held once (no second full-size copy)."""
+    size = checked_size(path, max_size)
     try:
         with open(path, "rb") as fh:
-            data = fh.read(max_size + 1) if tabs_to is None else _read_replacing(fh, st.st_size, max_size, tabs_to)
+            if tabs_to is None:
+                data = fh.read(size + 1)                 # a buffer of the file's size, not of the limit
+                if len(data) > size:                     # the file grew since: read on, up to the limit
+                    data += fh.read(max(0, max_size + 1 - len(data)))
+            else:
+                data = _read_replacing(fh, size, max_size, tabs_to)
     except OSError as exc:
         raise SourceError("file-unreadable", f"cannot read the file ({exc.strerror or exc})") from None
     encoding = "utf-8"

@@ -1,5 +1,5 @@
-"""Offending-line texts and suppression comments read block by block give the answers of a whole-file read,
-whatever the block size (blocks without a wanted line or a marker are skipped quickly)."""
+"""Offending-line texts and suppression comments give the answers of a whole-file read, whatever the block
+or window size, from bytes or from a memory-mapped file."""
 from __future__ import annotations
 
 import pytest
@@ -25,13 +25,23 @@ def test_line_texts_match_a_whole_file_read(tmp_path, monkeypatch, block, final_
     assert got == {n: whole[n - 1].decode() for n in wanted}
 
 
-@pytest.mark.parametrize("block", [7, 13, 64, 1 << 20])
-def test_suppression_scan_does_not_depend_on_the_block_size(tmp_path, monkeypatch, block):
+@pytest.mark.parametrize("window", [4096, 1 << 22])
+@pytest.mark.parametrize("mapped", [True, False])
+def test_suppression_scan_of_mapped_and_read_text(tmp_path, monkeypatch, window, mapped):
+    """The same suppressions whether the text is bytes or a memory map walked in windows (pages given back)."""
+    from linter.parsers import buffers
+
     path = tmp_path / "pv40_block.inp"
-    path.write_text("\n".join(LINES) + "\n")
-    monkeypatch.setattr(suppressions, "BLOCK", 1 << 20)
-    whole = [(s.line, s.rules, s.target, s.scope) for s in suppressions.scan_file(str(path), ("**",))]
-    monkeypatch.setattr(suppressions, "BLOCK", block)
-    got = [(s.line, s.rules, s.target, s.scope) for s in suppressions.scan_file(str(path), ("**",))]
-    assert got == whole
-    assert [(line, target) for line, _r, target, _s in whole] == [(40, 41), (len(LINES) - 1, len(LINES) - 1)]
+    filler = [f"{i}, 0.0, 0.0, 0.0" for i in range(1, 3000)]        # ~60 kB: several 4 kB windows
+    path.write_text("\n".join(filler + LINES) + "\n")
+    monkeypatch.setattr(buffers, "MAP_ABOVE", 0 if mapped else 1 << 40)
+    monkeypatch.setattr(buffers, "WINDOW", window)
+    data = buffers.open_text(str(path), 1 << 30).data
+    assert buffers.is_mapped(data) == mapped
+    got = [(s.line, s.rules, s.target, s.scope) for s in suppressions.scan_text(data, str(path), ("**",))]
+    assert got == [(s.line, s.rules, s.target, s.scope) for s in suppressions.scan_file(str(path), ("**",))]
+    # counted by hand: the comment is line 40 of LINES, its card line 41; the trailing one is on its own line
+    n = len(filler)
+    assert [(line, target) for line, _r, target, _s in got] == [(n + 40, n + 41),
+                                                                (n + len(LINES) - 1, n + len(LINES) - 1)]
+    assert got[1][1] == ["material/density-missing"]

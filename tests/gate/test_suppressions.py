@@ -16,8 +16,9 @@ from linter.check import check_paths
 from linter.cli import main
 from linter.config import Config
 
+from decks import TET_MESH as MESH
+
 REPO = Path(__file__).resolve().parents[2]
-MESH = "*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\n1,1,2,3,4\n"
 POISSON = "elastic/poisson-out-of-range"
 
 
@@ -211,11 +212,13 @@ def test_json_and_sarif_keep_suppressed_findings(tmp_path, capsys, sarif_validat
     assert "1 suppressed by comments (not counted)" in capsys.readouterr().out
 
 
-def test_directives_are_found_in_any_block_with_their_line(tmp_path, monkeypatch):
-    """Small blocks so that most hold no comment prefix; the lines are counted by hand (splitlines)."""
+def test_directives_are_found_in_any_window_with_their_line(tmp_path, monkeypatch):
+    """A mapped file walked in small windows, so that most hold no marker; the lines are counted by hand."""
     from linter import suppressions
+    from linter.parsers import buffers
 
-    monkeypatch.setattr(suppressions, "BLOCK", 64)
+    monkeypatch.setattr(buffers, "MAP_ABOVE", 0)
+    monkeypatch.setattr(buffers, "WINDOW", 64)
     lines = [f"N{i} 0. 0. {i}." for i in range(60)]
     lines[3] = "deckwarden accept elastic for file"                 # no comment prefix: not a directive
     lines[40] = "# deckwarden accept element/volumetric-locking"
@@ -227,3 +230,21 @@ def test_directives_are_found_in_any_block_with_their_line(tmp_path, monkeypatch
     got = suppressions.scan_file(str(p), ("#",))
     assert [(s.line, s.rules, s.target) for s in got] == [
         (41, ["element/volumetric-locking"], 42), (56, ["elastic"], 56), (159, ["element"], 160)]
+
+
+def test_keyword_deck_scanned_from_the_text_the_parser_read(tmp_path, monkeypatch):
+    """The keyword parser keeps its text (``DeckModel.texts``): the suppression scan does not open the
+    deck again; a UTF-16 deck (decoded by the parser) and CR line ends give the comment's true line."""
+    from linter import suppressions
+
+    def no_reread(path, prefixes):
+        raise AssertionError(f"{path} read again")
+
+    monkeypatch.setattr(suppressions, "scan_file", no_reread)
+    text = kw(before_elastic="** deckwarden accept elastic/poisson-out-of-range because gas fill\n")
+    for name, raw in (("utf16.inp", text.encode("utf-16")), ("cr.inp", text.replace("\n", "\r").encode())):
+        p = tmp_path / name
+        p.write_bytes(raw)
+        _, found = check(p)
+        (f,) = by_rule(found, POISSON)
+        assert f.suppression is not None and f.suppression["line"] == 9, name   # line 9 counted by hand

@@ -204,6 +204,7 @@ class _Parser:
         model.extras["line_ends"][shown] = src.line_ends
         rd = Reader(src.data if src.data.endswith(b"\n") or not src.data else src.data + b"\n", shown,
                     model.issues)
+        model.texts[shown] = rd.data
         if src.encoding in ("latin-1", "utf-16-le", "utf-16-be"):
             rd.issue("encoding", f"the file is encoded as {src.encoding}, not UTF-8", 1, encoding=src.encoding)
         self.tracker.stack.append(os.path.realpath(real_path))
