@@ -12,7 +12,7 @@ from linter.cli import main
 from linter.findings import Finding
 from linter.fingerprint import SARIF_KEY, _key_data, assign
 
-MESH = "*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\n1,1,2,3,4\n"
+from decks import TET_MESH as MESH
 
 
 def deck(nu_a="0.7", nu_b="0.7") -> str:
