@@ -270,12 +270,16 @@ def node_table(c: bytes) -> np.ndarray:
     vals = values(c)
     n_lines = c.count(b"\n")
     width = c[: c.index(b"\n")].count(b",") + 1
-    if width * n_lines == vals.size:
+    # the quick reshape only when every line has the first line's fields: equal totals are not enough
+    # (4, 3 and 5 fields hold as many numbers as three lines of 4)
+    cnt = fields_per_line(c) if width * n_lines == vals.size else None
+    if cnt is not None and bool((cnt == width).all()):
         tab = vals.reshape(n_lines, width)
         out = np.zeros((n_lines, 4))
         out[:, : min(4, width)] = tab[:, :4]
         return out
-    cnt = fields_per_line(c)
+    if cnt is None:
+        cnt = fields_per_line(c)
     start = np.cumsum(cnt) - cnt
     out = np.zeros((n_lines, 4))
     for j in range(4):
