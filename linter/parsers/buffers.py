@@ -29,8 +29,12 @@ def is_mapped(data) -> bool:
     return isinstance(data, mmap.mmap)
 
 
-def open_text(path: str, max_size: int) -> Source:
-    """The file as :class:`Source`; ``data`` is a read-only ``mmap`` for a large plain file, else bytes."""
+def open_text(path: str, max_size: int, checked: bool = True) -> Source:
+    """The file as :class:`Source`; ``data`` is a read-only ``mmap`` for a large plain file, else bytes.
+
+    ``checked=False``: only the head and the last byte of a large file are looked at before it is mapped;
+    the caller checks the rest (ASCII, no CR) in its own first pass and reads the file with
+    ``read_deck_bytes`` when that fails (the keyword parser does, to spare a pass)."""
     size = checked_size(path, max_size)
     if size <= MAP_ABOVE or _DONTNEED is None:
         return read_deck_bytes(path, max_size)
@@ -39,19 +43,22 @@ def open_text(path: str, max_size: int) -> Source:
             mm = mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ)
     except (OSError, ValueError):
         return read_deck_bytes(path, max_size)
-    if not _plain(mm):
+    if not _plain(mm, checked):
         mm.close()
         return read_deck_bytes(path, max_size)          # decoding or line-end normalisation needed
     return Source(path=path, data=mm, encoding="utf-8", line_ends="lf")
 
 
-def _plain(mm: mmap.mmap) -> bool:
-    """ASCII text with ``\\n`` line ends and a final line end (what ``read_deck_bytes`` would leave as is)."""
+def _plain(mm: mmap.mmap, whole: bool = True) -> bool:
+    """ASCII text with ``\\n`` line ends and a final line end (what ``read_deck_bytes`` would leave as is);
+    not ``whole``: the head and the last byte only."""
     n = len(mm)
     head = mm[:65536]
     if not n or mm[n - 1:n] != b"\n" or looks_binary(head) or head.startswith((b"\xef\xbb\xbf", b"\xff\xfe",
                                                                                 b"\xfe\xff")):
         return False
+    if not whole:
+        return True
     arr = np.frombuffer(mm, dtype=np.uint8)
     try:
         for lo in range(0, n, WINDOW):

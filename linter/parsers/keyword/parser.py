@@ -20,6 +20,7 @@ import numpy as np
 from ..includes import IncludeTracker
 from ...model import DeckModel, Include, Loc, Material, Procedure, Unchecked, norm_key
 from . import DEFAULT_DIALECT, FORMAT
+from .. import buffers
 from ..sources import SourceError, read_deck_bytes
 from . import cards, keywords
 from . import mesh
@@ -34,11 +35,14 @@ _SPECIAL_AT_START = re.compile(rb"[ \t]*[*\n]")
 _CHUNK = 1 << 21
 
 
-def _special_lines(data: bytes) -> tuple[list[int], list[int], np.ndarray, int]:
+def _special_lines(data: bytes, plain: bool = False) -> Optional[tuple[list[int], list[int], np.ndarray, int]]:
     """Where the lines start that begin (after blanks) with a keyword (``*`` but not ``**``), their 1-based line
     numbers, the number of comment and blank lines before each of them (cumulative, then the total), and the
     number of newlines in ``data``: the matches of ``_SPECIAL``, found with numpy in chunks (a few MB of
-    temporaries at a time) instead of a regular-expression scan; only keyword lines become Python ints."""
+    temporaries at a time) instead of a regular-expression scan; only keyword lines become Python ints.
+
+    ``plain``: also check, on the way, that the text is plain (ASCII, no CR: what ``buffers.open_text(...,
+    checked=False)`` has not checked); None when it is not."""
     arr = np.frombuffer(data, dtype=np.uint8)
     n = arr.size
     positions: list[int] = []
@@ -47,6 +51,8 @@ def _special_lines(data: bytes) -> tuple[list[int], list[int], np.ndarray, int]:
     n_skip = 0
     seen = 0
     for lo in range(0, n, _CHUNK):
+        if plain and (int(arr[lo:lo + _CHUNK].max()) >= 128 or data.find(b"\r", lo, lo + _CHUNK) >= 0):
+            return None
         nl = np.flatnonzero(arr[lo:lo + _CHUNK] == 10) + lo
         if not nl.size:
             continue
@@ -57,6 +63,16 @@ def _special_lines(data: bytes) -> tuple[list[int], list[int], np.ndarray, int]:
         special = (nxt == 42) | ((nxt == 10) & ok)
         first = np.where(ok, head, n - 1)               # where each line's first non-blank is
         blank = np.flatnonzero(((nxt == 32) | (nxt == 9)) & ok)
+        if blank.size:      # only a blank-led line that holds a '*' or ends in a blank can be special
+            keep = np.zeros(nl.size, dtype=bool)
+            keep[-1] = True                             # the last line may go on in the next chunk
+            stars = np.flatnonzero(arr[lo:lo + _CHUNK] == 42) + lo
+            if stars.size:
+                k = np.searchsorted(nl, stars)          # a star after line end k-1 is on the line head[k-1]
+                keep[k[k > 0] - 1] = True
+            last = arr[nl[1:] - 1]
+            keep[:-1] |= (last == 32) | (last == 9)
+            blank = blank[keep[blank]]
         if blank.size:                                  # skip leading blanks, then look again
             idx = head[blank] + 1
             for _ in range(256):
@@ -77,6 +93,7 @@ def _special_lines(data: bytes) -> tuple[list[int], list[int], np.ndarray, int]:
         skips.append(before[kw])
         n_skip += int((~kw).sum())
         seen += nl.size
+        buffers.release(data, lo, lo + _CHUNK)          # a mapped file: the scanned pages go back
     skipped = np.concatenate(skips + [np.array([n_skip])]) if skips else np.array([0])
     return positions, lines, skipped, seen
 
@@ -197,29 +214,34 @@ class _Parser:
     # -- files ------------------------------------------------------------------------
 
     def read_file(self, real_path: str, shown: str) -> None:
-        src = read_deck_bytes(real_path, self.options.max_file_size)
+        src = buffers.open_text(real_path, self.options.max_file_size, checked=False)
+        scan = None
+        if buffers.is_mapped(src.data):              # a large file mapped: the first scan checks it is plain
+            scan = _special_lines(src.data, plain=True)
+            if scan is None:
+                src = read_deck_bytes(real_path, self.options.max_file_size)
         model = self.model
         model.files.append(shown)
         model.extras["encoding"][shown] = src.encoding
         model.extras["line_ends"][shown] = src.line_ends
-        rd = Reader(src.data if src.data.endswith(b"\n") or not src.data else src.data + b"\n", shown,
+        rd = Reader(src.data if src.data[-1:] == b"\n" or not src.data else src.data + b"\n", shown,
                     model.issues)
         model.texts[shown] = rd.data
         if src.encoding in ("latin-1", "utf-16-le", "utf-16-be"):
             rd.issue("encoding", f"the file is encoded as {src.encoding}, not UTF-8", 1, encoding=src.encoding)
         self.tracker.stack.append(os.path.realpath(real_path))
         try:
-            self._read(rd)
+            self._read(rd, scan)
         finally:
             self.tracker.stack.pop()
 
-    def _read(self, rd: Reader) -> None:
+    def _read(self, rd: Reader, scan=None) -> None:
         data = rd.data
         # one pass over the bytes: the start of every keyword, comment and blank line
         kws: list[tuple[int, int, int]] = []        # (start, end of line, line number)
         skipped: list[int] = [0]                     # comment/blank lines before each keyword, cumulative
         line = 1
-        positions, linenos, before, total_nl = _special_lines(data)
+        positions, linenos, before, total_nl = scan or _special_lines(data)
         first_is = 0                                 # the first line: a keyword (1), comment/blank (-1), data (0)
         if _SPECIAL_AT_START.match(data):
             c2 = data[:4096].lstrip(b" \t")[:2]
@@ -336,7 +358,7 @@ class _Parser:
         elif key == "PHYSICALCONSTANTS":
             cards.read_physical_constants(rd, kw, model)
         elif key not in KNOWN_SKIPPED:
-            self.unknown_keyword(rd, kw, rd.data[:max(0, start - 1)].rsplit(b"\n", 1)[-1])
+            self.unknown_keyword(rd, kw, rd.data[rd.data.rfind(b"\n", 0, max(0, start - 1)) + 1:max(0, start - 1)])
             seen = self.unknown.get(key)
             if seen is None:
                 entry = Unchecked(what=kw.written.upper(), loc=kw.loc, reason="")

@@ -21,6 +21,8 @@ from typing import Iterator, Optional
 
 import numpy as np
 
+from ..buffers import release
+
 MAX_FIELDS = 16                 # CalculiX keeps at most 16 fields of a line
 PIECE = 8 << 20
 _ONLY_COMMAS = re.compile(rb"(?m)^,+\n")
@@ -203,7 +205,9 @@ def pieces(data: bytes, start: int, end: int, size: int = 0) -> Iterator[tuple[b
         stop = end if end - at <= size else data.rfind(b"\n", at, at + size) + 1
         if stop <= at:
             stop = data.find(b"\n", at + size, end) + 1 or end
-        yield compact(data[at:stop]), stop >= end
+        piece = compact(data[at:stop])
+        release(data, at, stop)                          # a mapped file: the piece's pages go back
+        yield piece, stop >= end
         at = stop
 
 
