@@ -99,17 +99,22 @@ def count(data, byte: bytes, a: int = 0, b: Optional[int] = None) -> int:
     return total
 
 
-def find_all(data, word: bytes, a: int = 0, b: Optional[int] = None) -> Iterator[int]:
-    """Every start of ``word`` in ``data[a:b]``, in order (mapped text: window by window, given back)."""
+def find_all(data, *words: bytes, a: int = 0, b: Optional[int] = None) -> Iterator[int]:
+    """Every start of each of ``words`` in ``data[a:b]``, in order within each window (mapped text: window by
+    window, every word searched while the window's pages are in, then given back)."""
     b = len(data) if b is None else min(b, len(data))
     step = WINDOW if isinstance(data, mmap.mmap) else max(1, b - a)
+    longest = max(len(w) for w in words)
     for lo in range(a, b, step):
         hi = min(b, lo + step)
-        stop = min(b, hi + len(word) - 1)
-        i = data.find(word, lo, stop)
-        while i >= 0:
-            yield i
-            i = data.find(word, i + 1, stop)
+        stop = min(b, hi + longest - 1)
+        found = []
+        for word in words:
+            i = data.find(word, lo, min(stop, hi + len(word) - 1))
+            while i >= 0:
+                found.append(i)
+                i = data.find(word, i + 1, min(stop, hi + len(word) - 1))
+        yield from sorted(found)
         release(data, lo, hi)
 
 
@@ -119,11 +124,13 @@ def line_number(data, pos: int, known: tuple[int, int] = (0, 1)) -> int:
     return line + count(data, b"\n", at, pos)
 
 
-def line_texts(data, wanted: Iterable[int], anchors: Iterable[tuple[int, int]] = ()) -> dict[int, str]:
+def line_texts(data, wanted: Iterable[int], anchors: Iterable[tuple[int, int]] = (),
+               reach: Optional[int] = None) -> dict[int, str]:
     """The text of the wanted 1-based lines (UTF-8, undecodable bytes replaced), without the line end.
 
     ``anchors``: known (line, byte offset of its start) pairs, e.g. the keyword lines a parser found;
-    each wanted line is reached from the nearest anchor before it."""
+    each wanted line is reached from the nearest anchor before it. ``reach``: lines more than this many
+    lines after their anchor are left out (the answer then costs a few searches per line, never a scan)."""
     todo = sorted({int(w) for w in wanted if int(w) >= 1})
     known = sorted(set(anchors) | {(1, 0)})
     out: dict[int, str] = {}
@@ -134,6 +141,8 @@ def line_texts(data, wanted: Iterable[int], anchors: Iterable[tuple[int, int]] =
             if known[k][0] > line:
                 line, at = known[k]
             k += 1
+        if reach is not None and w - line > reach:
+            continue
         if w - line > 64:                 # far: count line ends window by window
             at, line = _skip_lines(data, at, w - line), w
         while line < w and at < n:

@@ -6,7 +6,8 @@ elements, without a Python object per item). Includes are read in place, as the
 solver does (``*INCLUDE`` text is inlined), with the included file's own path and
 line numbers on everything read from it.
 
-``DeckModel.extras`` written here: ``"encoding"`` (per file), ``"line_ends"`` (per file).
+``DeckModel.extras`` written here: ``"encoding"`` (per file), ``"line_ends"`` (per file), ``"line_anchors"``
+(per file: (line, byte offset) of every keyword line, to find a line of ``DeckModel.texts`` quickly).
 """
 from __future__ import annotations
 
@@ -234,6 +235,7 @@ class _Parser:
             self._read(rd, scan)
         finally:
             self.tracker.stack.pop()
+            buffers.release(rd.data, 0, len(rd.data))    # a mapped file: whatever the cards touched goes back
 
     def _read(self, rd: Reader, scan=None) -> None:
         data = rd.data
@@ -258,6 +260,7 @@ class _Parser:
             kws.append((pos, len(data) if eol < 0 else eol, line))
             skipped.append(int(before[k]))
         n_skip = int(before[-1])
+        self.model.extras.setdefault("line_anchors", {})[rd.path] = [(ln, pos) for pos, _e, ln in kws]
         first = kws[0][0] if kws else len(data)
         pre = next(rd.lines(0, first, 1), None)
         if pre is not None and self.last_kw is not None and len(self.tracker.stack) > 1:
