@@ -141,12 +141,11 @@ def scan_text(data, path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
 def _marker_places(data, buffers) -> list[int]:
     """Where one of ``MARKERS`` starts in ``data``, in order."""
     out = set()
-    for one in _ONE_BYTE:
-        spellings = [(m, m.find(one)) for m in MARKERS if one in m]
-        for i in buffers.find_all(data, one):
-            for m, k in spellings:
-                if i >= k and data[i - k:i - k + len(m)] == m:
-                    out.add(i - k)
+    spellings = [(m, m.find(one)) for one in _ONE_BYTE for m in MARKERS if one in m]
+    for i in buffers.find_all(data, *_ONE_BYTE):
+        for m, k in spellings:
+            if i >= k and m[k] == data[i] and data[i - k:i - k + len(m)] == m:
+                out.add(i - k)
     return sorted(out)
 
 

@@ -108,3 +108,12 @@ def test_keyword_line_scan_matches_a_line_by_line_reading(lines, end, chunk):
     finally:
         K._CHUNK = saved
     assert (positions, linenos, before.tolist(), total) == reference(data)
+
+
+@settings(max_examples=300, deadline=None)
+@given(text=st.text(alphabet="12,\n \t\r*.e-", max_size=80))
+def test_field_counts_without_compacting_match_the_compacted_lines(text):
+    from linter.parsers.keyword import rows
+
+    chunk = text.encode()
+    assert rows.line_fields(chunk).tolist() == rows.fields_per_line(rows.compact(chunk)).tolist()

@@ -202,7 +202,9 @@ def _node_table(chunk: bytes) -> np.ndarray:
 def _node_sample(data: bytes, start: int, end: int, n_lines: int) -> np.ndarray:
     """The node table of a sample of the block's lines (``sampling``), parsed with numpy in one go."""
     want = sampling.sample_size(n_lines)
-    return _node_table(sampling.line_pieces(data, start, end, n_lines, want))
+    sample = sampling.line_pieces(data, start, end, n_lines, want)
+    buffers.release(data, start, end)                   # a mapped file: the sampled pages go back
+    return _node_table(sample)
 
 
 def _all_nodes(ranges) -> tuple[np.ndarray, np.ndarray]:
