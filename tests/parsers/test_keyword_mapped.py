@@ -52,11 +52,20 @@ def parse(path, monkeypatch, mapped: bool, chunk: int = 0):
 @pytest.mark.parametrize("style", L.KEYWORD_STYLES)
 @pytest.mark.parametrize("chunk", [0, 64])
 def test_mapped_deck_reads_as_the_bytes(write_deck, monkeypatch, style, chunk):
-    p = write_deck(f"pv40_{style}.inp", deck(style))
+    p = write_deck(f"pv40_{style}.inp", deck(style).replace("*DENSITY", "** deckwarden accept elastic\n*DENSITY"))
     m, got = parse(p, monkeypatch, True, chunk)
     assert buffers.is_mapped(m.texts[str(p)])
-    _, want = parse(p, monkeypatch, False)
+    m2, want = parse(p, monkeypatch, False)
     assert got == want
+    text = p.read_bytes()
+    assert m.extras["mark_bytes"][str(p)] == m2.extras["mark_bytes"][str(p)] == [
+        i for i, c in enumerate(text) if c in b"wW"]
+    from linter import suppressions
+
+    line = text[:text.index(b"** deckwarden")].count(b"\n") + 1
+    for anchors in (None, m.extras["line_anchors"][str(p)]):
+        (sup,) = suppressions.scan_text(m.texts[str(p)], str(p), ("**",), m.extras["mark_bytes"][str(p)], anchors)
+        assert (sup.line, sup.target, sup.rules) == (line, line + 1, ["elastic"])
     assert [i.code for i in m.issues if i.code in ("truncated", "malformed-data")] == []
 
 
@@ -94,6 +103,7 @@ def reference(data: bytes):
 
 
 LINES = st.sampled_from(["*NODE", "  *ELEMENT, TYPE=C3D8", "\t*STEP", "** note", "   ** x", "", "   ", "\t \t",
+                         "** deckwarden accept elastic", "*MATERIAL, NAME=PV40_WEAR_RING", "w",
                          "1,2,3", "         1,   0.00000000e+00,   2.5", "   7, 8*", " 5, 6 ", "* ", "2*3, 4"])
 
 
@@ -103,11 +113,13 @@ def test_keyword_line_scan_matches_a_line_by_line_reading(lines, end, chunk):
     data = ("\n".join(lines) + end).encode()
     saved = K._CHUNK
     K._CHUNK = chunk
+    marks: list = []
     try:
-        positions, linenos, before, total = K._special_lines(data)
+        positions, linenos, before, total = K._special_lines(data, marks=marks)
     finally:
         K._CHUNK = saved
     assert (positions, linenos, before.tolist(), total) == reference(data)
+    assert sorted(marks) == [i for i, c in enumerate(data) if c in b"wW"]     # for the suppression scan
 
 
 @settings(max_examples=300, deadline=None)

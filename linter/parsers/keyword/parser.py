@@ -7,7 +7,8 @@ solver does (``*INCLUDE`` text is inlined), with the included file's own path an
 line numbers on everything read from it.
 
 ``DeckModel.extras`` written here: ``"encoding"`` (per file), ``"line_ends"`` (per file), ``"line_anchors"``
-(per file: (line, byte offset) of every keyword line, to find a line of ``DeckModel.texts`` quickly).
+(per file: (line, byte offset) of every keyword line, to find a line of ``DeckModel.texts`` quickly),
+``"mark_bytes"`` (per file: offsets of the bytes the suppression scan looks for, found in the first pass).
 """
 from __future__ import annotations
 
@@ -27,6 +28,7 @@ from . import cards, keywords
 from . import mesh
 from .lex import KeywordLine, Reader, parse_keyword_line
 from .materials import MATERIAL_CARDS, read_material_card
+from ...suppressions import MARK_BYTES
 
 MAX_NAME = 80
 
@@ -36,14 +38,16 @@ _SPECIAL_AT_START = re.compile(rb"[ \t]*[*\n]")
 _CHUNK = 1 << 21
 
 
-def _special_lines(data: bytes, plain: bool = False) -> Optional[tuple[list[int], list[int], np.ndarray, int]]:
+def _special_lines(data: bytes, plain: bool = False, marks: Optional[list] = None
+                   ) -> Optional[tuple[list[int], list[int], np.ndarray, int]]:
     """Where the lines start that begin (after blanks) with a keyword (``*`` but not ``**``), their 1-based line
     numbers, the number of comment and blank lines before each of them (cumulative, then the total), and the
     number of newlines in ``data``: the matches of ``_SPECIAL``, found with numpy in chunks (a few MB of
     temporaries at a time) instead of a regular-expression scan; only keyword lines become Python ints.
 
     ``plain``: also check, on the way, that the text is plain (ASCII, no CR: what ``buffers.open_text(...,
-    checked=False)`` has not checked); None when it is not."""
+    checked=False)`` has not checked); None when it is not. ``marks``: a list that gets the offsets of the
+    bytes the suppression scan looks for (``suppressions.MARK_BYTES``), found while each chunk is at hand."""
     arr = np.frombuffer(data, dtype=np.uint8)
     n = arr.size
     positions: list[int] = []
@@ -54,6 +58,12 @@ def _special_lines(data: bytes, plain: bool = False) -> Optional[tuple[list[int]
     for lo in range(0, n, _CHUNK):
         if plain and (int(arr[lo:lo + _CHUNK].max()) >= 128 or data.find(b"\r", lo, lo + _CHUNK) >= 0):
             return None
+        if marks is not None:
+            for one in MARK_BYTES:
+                i = data.find(one, lo, lo + _CHUNK)
+                while i >= 0:
+                    marks.append(i)
+                    i = data.find(one, i + 1, lo + _CHUNK)
         nl = np.flatnonzero(arr[lo:lo + _CHUNK] == 10) + lo
         if not nl.size:
             continue
@@ -216,11 +226,11 @@ class _Parser:
 
     def read_file(self, real_path: str, shown: str) -> None:
         src = buffers.open_text(real_path, self.options.max_file_size, checked=False)
-        scan = None
+        scan, marks = None, []
         if buffers.is_mapped(src.data):              # a large file mapped: the first scan checks it is plain
-            scan = _special_lines(src.data, plain=True)
+            scan = _special_lines(src.data, plain=True, marks=marks)
             if scan is None:
-                src = read_deck_bytes(real_path, self.options.max_file_size)
+                src, marks = read_deck_bytes(real_path, self.options.max_file_size), []
         model = self.model
         model.files.append(shown)
         model.extras["encoding"][shown] = src.encoding
@@ -232,18 +242,20 @@ class _Parser:
             rd.issue("encoding", f"the file is encoded as {src.encoding}, not UTF-8", 1, encoding=src.encoding)
         self.tracker.stack.append(os.path.realpath(real_path))
         try:
-            self._read(rd, scan)
+            self._read(rd, scan, marks)
         finally:
             self.tracker.stack.pop()
             buffers.release(rd.data, 0, len(rd.data))    # a mapped file: whatever the cards touched goes back
 
-    def _read(self, rd: Reader, scan=None) -> None:
+    def _read(self, rd: Reader, scan=None, marks: Optional[list] = None) -> None:
         data = rd.data
         # one pass over the bytes: the start of every keyword, comment and blank line
         kws: list[tuple[int, int, int]] = []        # (start, end of line, line number)
         skipped: list[int] = [0]                     # comment/blank lines before each keyword, cumulative
         line = 1
-        positions, linenos, before, total_nl = scan or _special_lines(data)
+        positions, linenos, before, total_nl = scan or _special_lines(data, marks=marks)
+        if marks is not None:                        # the suppression scan starts from these
+            self.model.extras.setdefault("mark_bytes", {})[rd.path] = sorted(marks)
         first_is = 0                                 # the first line: a keyword (1), comment/blank (-1), data (0)
         if _SPECIAL_AT_START.match(data):
             c2 = data[:4096].lstrip(b" \t")[:2]
