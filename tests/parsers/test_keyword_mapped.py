@@ -6,6 +6,7 @@ lines are counted apart), whatever the chunk size."""
 from __future__ import annotations
 
 import io
+import os
 
 import numpy as np
 import pytest
@@ -129,3 +130,23 @@ def test_field_counts_without_compacting_match_the_compacted_lines(text):
 
     chunk = text.encode()
     assert rows.line_fields(chunk).tolist() == rows.fields_per_line(rows.compact(chunk)).tolist()
+
+
+@pytest.mark.parametrize("window", [64, 4096, 1 << 22])
+def test_include_scan_of_a_mapped_deck(write_deck, monkeypatch, window):
+    """``includes_of`` (the folder walk's cheap scan) finds the same includes in a mapped deck walked in
+    windows as in the bytes: at the start, indented, in lower case, after long data blocks."""
+    from linter.parsers import ParseOptions
+
+    for name in ("pv40_a.inp", "pv40_b.inp", "pv40_c.inp", "pv40_d.inp"):
+        write_deck(name, "*NODE\n1,0,0,0\n")
+    filler = "".join(f"{i}, 0.0, 0.0, 0.0\n" for i in range(1, 400))
+    text = ("*INCLUDE, INPUT=pv40_a.inp\n" + filler + "  *include, input=pv40_b.inp\n" + filler +
+            "** *INCLUDE, INPUT=pv40_x.inp\n*Include,Input=pv40_c.inp\n" + filler + "\t*INCLUDE, INPUT=pv40_d.inp\n")
+    p = write_deck("pv40_top.inp", text)
+    want = [str(p.parent / n) for n in ("pv40_a.inp", "pv40_b.inp", "pv40_c.inp", "pv40_d.inp")]
+    monkeypatch.setattr(buffers, "WINDOW", window)
+    for above in (0, 1 << 40):
+        monkeypatch.setattr(buffers, "MAP_ABOVE", above)
+        got = K.includes_of(str(p), ParseOptions())
+        assert [os.path.realpath(g) for g in got] == [os.path.realpath(w) for w in want]

@@ -12,7 +12,6 @@ line numbers on everything read from it.
 """
 from __future__ import annotations
 
-import itertools
 import os
 import re
 from typing import Optional
@@ -176,6 +175,24 @@ def _display_base(path: str, options) -> str:
     return os.path.dirname(path)
 
 
+def _include_matches(data):
+    """The candidate ``*INCLUDE`` lines of a file's text; a mapped file window by window, each given back."""
+    head = _INCLUDE_AT_START.match(data)
+    if head:
+        yield head
+    n = len(data)
+    step = buffers.WINDOW if buffers.is_mapped(data) else max(n, 1)
+    lo = 0
+    while lo < n:               # windows end at a line end, which starts the next one (the pattern's '\n')
+        hi = n if n - lo <= step else data.rfind(b"\n", lo + 1, lo + step)
+        if hi <= lo:
+            hi = data.find(b"\n", lo + step)
+            hi = n if hi < 0 else hi
+        yield from _INCLUDE.finditer(data, lo, hi)
+        buffers.release(data, lo, hi)
+        lo = hi
+
+
 def includes_of(path: str, options) -> list[str]:
     """Resolved paths of the files ``path`` includes, recursively (a cheap scan)."""
     tracker = IncludeTracker(options.include)
@@ -183,13 +200,12 @@ def includes_of(path: str, options) -> list[str]:
     out: list[str] = []
 
     def scan(p: str) -> None:
-        try:
-            data = read_deck_bytes(p, options.max_file_size).data
+        try:       # a large file is mapped (CR line ends or other bytes do not matter to this scan)
+            data = buffers.open_text(p, options.max_file_size, checked=False).data
         except SourceError:
             return
         tracker.stack.append(os.path.realpath(p))
-        head = _INCLUDE_AT_START.match(data)
-        for m in itertools.chain([head] if head else [], _INCLUDE.finditer(data)):
+        for m in _include_matches(data):
             kw = parse_keyword_line(m.group(0).lstrip(b"\n"), Loc(p, 0))
             if kw.key != "INCLUDE" or not kw.get("INPUT"):
                 continue
