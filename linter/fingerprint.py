@@ -103,9 +103,17 @@ _FLOAT = re.compile(r"[-+]?(?:\d+\.\d*|\.\d+|\d+(?=[eE]))(?:[eE][-+]?\d+)?")
 
 def _key_text(value: str, roots: list[str]) -> str:
     """A text value as it enters the key: a path relative to the root, line references and
-    floating-point numbers written out replaced by ``#`` (they move or are rounded)."""
+    floating-point numbers written out replaced by ``#`` (they move or are rounded).
+
+    A path is made relative whether the run named the decks by absolute paths or relative to the working
+    folder (``models/a.inp`` from the repository, ``a.inp`` from inside ``models``): a value with a
+    path separator that lies under a root is taken for a path."""
     if os.path.isabs(value):
         return relative(value, roots)
+    if "/" in value or os.sep in value:
+        ap = os.path.abspath(value)
+        if any(ap.startswith(r.rstrip(os.sep) + os.sep) for r in roots):
+            return relative(ap, roots)
     return _FLOAT.sub("#", _LINE_REF.sub("line #", value))
 
 

@@ -137,23 +137,19 @@ def not_positive_definite(model, ctx):
 
 
 def _fluid_like(mat, entry) -> bool:
-    """An orthotropic D-value block whose every row has six equal normal terms (D1111 = D1122 = ... = K:
+    """An orthotropic D-value block whose every row has six equal normal terms (D1111 = D1122 = ... = K > 0:
     the hydrostatic stiffness of a fluid) and no negative shear term."""
     if entry.get("form") != "ortho":
         return False
-    blk = next((b for b in mat.blocks if b.kind == "elastic" and b.form == "ortho"
-                and b.loc.line == entry.get("line")), None)
-    if blk is None or not blk.rows:
-        return False
+    blk = mat.blocks[entry["block"]]          # the *ELASTIC,TYPE=ORTHO block (layout of linter.model)
     lay = list(blk.layout)
-    normal = [lay.index(k) for k in ("D1111", "D1122", "D2222", "D1133", "D2233", "D3333") if k in lay]
-    shear = [lay.index(k) for k in ("D1212", "D1313", "D2323") if k in lay]
-    if len(normal) != 6 or len(shear) != 3:
-        return False
+    normal = [lay.index(k) for k in ("D1111", "D1122", "D2222", "D1133", "D2233", "D3333")]
+    shear = [lay.index(k) for k in ("D1212", "D1313", "D2323")]
     for r in blk.rows:
         v = r.values
         n = [v[i] for i in normal]
-        if any(v[i] < 0 for i in shear) or min(n) < 0 or max(n) - min(n) > 1e-9 * max(abs(max(n)), 1e-300):
+        # a bulk stiffness K > 0; equal to round-off: within 1e-9 of the largest term
+        if any(v[i] < 0 for i in shear) or min(n) <= 0 or max(n) - min(n) > 1e-9 * max(n):
             return False
     return True
 

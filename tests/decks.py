@@ -12,6 +12,9 @@ CUBE_NODES = """1, 0., 0., 0.
 8, 0., 1., 1.
 """
 
+#: one 4-node tetrahedron (ids 1-4, element 1) in element set E1, as keyword lines: *NODE and *ELEMENT
+TET_MESH = "*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\n1,1,2,3,4\n"
+
 #: a 10 x 10 square plate as bulk data lines: four GRIDs (ids 1-4) and one CQUAD4 (id 1, PID 1)
 PLATE_QUAD_BULK = """GRID,1,,0.,0.,0.
 GRID,2,,10.,0.,0.

@@ -1,7 +1,8 @@
 """Smallest element edge length from connectivity and node coordinates (vectorised, no I/O).
 
 Edges are taken from the element topology (node order as in the CalculiX and Nastran manuals;
-both number corner nodes first and mid-side nodes edge by edge). For quadratic elements an edge
+both number corner nodes first and mid-side nodes edge by edge, in another edge order for the
+20-node hexahedron and the 15-node wedge). For quadratic elements an edge
 a-m-b gives the two segments a-m and m-b (the node spacing, which is what limits an explicit step).
 Unknown topologies fall back to the smallest distance between any two nodes of the element.
 """
@@ -36,6 +37,14 @@ EDGES = {
     ("line", 2): ((0, 1),),
 }
 
+#: Nastran numbers the mid-side nodes of CHEXA and CPENTA bottom face, vertical edges, top face (meshio 5.3,
+#: nastran reader ``_convert_to_vtk_ordering``; the CHEXA/CPENTA figures of the Nastran manuals, from memory),
+#: CalculiX bottom face, top face, vertical edges: (type prefix, node count) -> pairs
+NASTRAN_EDGES = {
+    ("CHEXA", 20): _quadratic(_HEX[:4] + _HEX[8:] + _HEX[4:8], 8),
+    ("CPENTA", 15): _quadratic(_WEDGE[:3] + _WEDGE[6:] + _WEDGE[3:6], 6),
+}
+
 _SURFACE_PREFIXES = ("CPS", "CPE", "CAX", "S", "M3D", "CQUAD", "CTRIA", "CSHEAR")
 _LINE_PREFIXES = ("B", "T", "CBAR", "CBEAM", "CROD", "CTUBE", "CONROD", "CBUSH", "CELAS", "SPRING", "DASHPOT", "GAP")
 
@@ -52,6 +61,9 @@ def family(element_type: str) -> str:
 
 
 def edge_pairs(element_type: str, nodes: int) -> tuple[tuple[int, int], ...]:
+    for (prefix, count), pairs in NASTRAN_EDGES.items():
+        if nodes == count and element_type.upper().startswith(prefix):
+            return pairs
     found = EDGES.get((family(element_type), nodes))
     if found is not None:
         return found
@@ -104,18 +116,38 @@ def min_edge_lengths(conn: np.ndarray, node_ids: np.ndarray, coords, element_typ
         return np.zeros(0)
     cols = coords if isinstance(coords, tuple) else columns(coords)
     pairs = edge_pairs(element_type, conn.shape[1])
-    idx = node_index(node_ids, conn)
-    safe = np.where(idx < 0, 0, idx)
-    xyz = [np.take(c, safe) for c in cols]                   # 3 x (n, nodes)
-    best = np.full(conn.shape[0], np.inf)
+    idx, missing = _rows_of(node_ids, conn)
+    xyz = [np.take(c, idx) for c in cols]                    # 3 x (n, nodes)
+    n = conn.shape[0]
+    best = np.full(n, np.inf)
+    d2, t = np.empty(n), np.empty(n)
     for a, b in pairs:                                       # a running minimum, one edge at a time
-        d2 = (xyz[0][:, a] - xyz[0][:, b]) ** 2
-        d2 += (xyz[1][:, a] - xyz[1][:, b]) ** 2
-        d2 += (xyz[2][:, a] - xyz[2][:, b]) ** 2
+        np.subtract(xyz[0][:, a], xyz[0][:, b], out=d2)
+        np.multiply(d2, d2, out=d2)
+        for c in xyz[1:]:
+            np.subtract(c[:, a], c[:, b], out=t)
+            np.multiply(t, t, out=t)
+            d2 += t
         np.minimum(best, d2, out=best)
-    out = np.sqrt(best)
-    out[(idx < 0).any(axis=1)] = np.nan
+    out = np.sqrt(best, out=best)
+    if missing is not None:
+        out[missing] = np.nan
     return out
+
+
+def _rows_of(node_ids, conn: np.ndarray) -> tuple[np.ndarray, Optional[np.ndarray]]:
+    """Row of every node of ``conn`` (0 where undefined) and which elements have an undefined node (None:
+    none has). Consecutive node ids whose range holds every node of ``conn`` need no look-up."""
+    lk = node_ids if isinstance(node_ids, NodeLookup) else NodeLookup(node_ids)
+    if lk.first is not None and conn.size:
+        row = conn - lk.first
+        if int(row.min()) >= 0 and int(row.max()) < lk.sorted_ids.size:
+            return row, None
+    idx = node_index(lk, conn)
+    bad = idx < 0
+    if not bad.any():
+        return idx, None
+    return np.where(bad, 0, idx), bad.any(axis=1)
 
 
 def smallest_edge(conn: np.ndarray, node_ids: np.ndarray, coords: np.ndarray, element_type: str,
@@ -124,13 +156,14 @@ def smallest_edge(conn: np.ndarray, node_ids: np.ndarray, coords: np.ndarray, el
 
     Elements are measured ``chunk`` at a time, so that memory stays bounded on large meshes."""
     conn = np.asarray(conn)
+    chunk = max(int(chunk), 1)
     if mask is not None:
         conn = conn[mask]
     best = None
     if not isinstance(node_ids, NodeLookup):
         node_ids = NodeLookup(node_ids)
     coords = coords if isinstance(coords, tuple) else columns(coords)
-    for start in range(0, conn.shape[0] if conn.ndim == 2 else 0, max(int(chunk), 1)):
+    for start in range(0, conn.shape[0] if conn.ndim == 2 else 0, chunk):
         lengths = min_edge_lengths(conn[start:start + chunk], node_ids, coords, element_type)
         lengths = lengths[np.isfinite(lengths) & (lengths > 0)]
         if lengths.size:

@@ -126,7 +126,7 @@ def absolute_zero_of(scale: str) -> tuple[float, ...]:
 
 
 def temperature_scale_of(absolute_zero: Optional[float]) -> Optional[str]:
-    """Which scale an absolute-zero value belongs to: 'C' (-273.15), 'F' (-459.67), 'K or R' (0)."""
+    """The scale of an absolute-zero value (to 0.5 degree): 'C' (-273.15), 'F' (-459.67), 'K or R' (0)."""
     if absolute_zero is None or not np.isfinite(absolute_zero):
         return None
     for name, ref in (("C", -273.15), ("F", -459.67), ("K or R", 0.0)):

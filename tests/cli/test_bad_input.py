@@ -10,7 +10,8 @@ import pytest
 
 from linter.cli import main
 
-MESH = "*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\n1,1,2,3,4\n"
+from decks import TET_MESH as MESH
+
 DECK = (MESH + "*MATERIAL,NAME=PV40_HOUSING\n*ELASTIC\n210000.,0.7\n*DENSITY\n7.85e-9\n"
         "*SOLID SECTION,ELSET=E1,MATERIAL=PV40_HOUSING\n*STEP\n*STATIC\n*END STEP\n")
 

@@ -15,8 +15,9 @@ from linter import __version__, registry
 from linter.cli import main
 from linter.cli_rules import rules_markdown
 
+from decks import TET_MESH as MESH
+
 REPO = Path(__file__).resolve().parents[2]
-MESH = "*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\n1,1,2,3,4\n"
 
 
 def deck(name: str = "MAT1", nu: str = "0.3") -> str:

@@ -14,6 +14,7 @@ from linter.config import Config
 from linter.findings import RunResult
 from linter.reporters import ReportOptions, get
 
+from decks import TET_MESH
 from report_samples import HOSTILE_NAME, clean_result, hostile_result, odd_result
 
 SCHEMA_PATH = Path(__file__).resolve().parents[2] / "linter" / "data" / "report.schema.json"
@@ -94,8 +95,7 @@ def test_relative_paths_stay_relative(validator, tmp_path, monkeypatch):
 
 def test_real_deck_report_is_valid(validator, write_deck, monkeypatch):
     pytest.importorskip("linter.parsers.keyword")
-    deck = write_deck("beam.inp", "*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\n"
-                      "1,1,2,3,4\n*MATERIAL,NAME=AL\n*ELASTIC\n70000.,0.7\n*DENSITY\n2.7e-9\n"
+    deck = write_deck("beam.inp", TET_MESH + "*MATERIAL,NAME=AL\n*ELASTIC\n70000.,0.7\n*DENSITY\n2.7e-9\n"
                       "*SOLID SECTION,ELSET=E1,MATERIAL=AL\n*STEP\n*STATIC\n*END STEP\n")
     monkeypatch.chdir(deck.parent)
     doc = render(check_paths(["beam.inp"], Config()))

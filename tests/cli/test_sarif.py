@@ -14,6 +14,7 @@ from linter.findings import RunResult
 from linter.reporters import ReportOptions, get
 from linter.reporters.sarif import uri_of
 
+from decks import TET_MESH
 from report_samples import clean_result, hostile_result, odd_result
 
 
@@ -84,8 +85,7 @@ def test_uris():
 
 def test_real_deck(validator, write_deck, monkeypatch):
     pytest.importorskip("linter.parsers.keyword")
-    deck = write_deck("plate.inp", "*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\n"
-                      "1,1,2,3,4\n*MATERIAL,NAME=AL\n*ELASTIC\n-70000.,0.3\n"
+    deck = write_deck("plate.inp", TET_MESH + "*MATERIAL,NAME=AL\n*ELASTIC\n-70000.,0.3\n"
                       "*SOLID SECTION,ELSET=E1,MATERIAL=AL\n*STEP\n*STATIC\n*END STEP\n")
     monkeypatch.chdir(deck.parent)
     doc = render(check_paths(["plate.inp"], Config()))

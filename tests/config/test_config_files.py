@@ -10,7 +10,8 @@ import pytest
 from linter.cli import main
 from linter.config import Config, ConfigError
 
-MESH = "*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\n1,1,2,3,4\n"
+from decks import TET_MESH as MESH
+
 needs_toml = pytest.mark.skipif(sys.version_info < (3, 11), reason="tomllib needs Python 3.11")
 
 

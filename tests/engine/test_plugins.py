@@ -15,9 +15,10 @@ from linter.findings import exit_code
 from linter.cli import main
 from linter.config import Config
 
+from decks import TET_MESH
+
 EXAMPLE = Path(__file__).resolve().parents[1] / "plugin_example"
-DECK = ("*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\n1,1,2,3,4\n"
-        "*MATERIAL,NAME=AL\n*ELASTIC\n70000.,0.33\n*SOLID SECTION,ELSET=E1,MATERIAL=AL\n"
+DECK = (TET_MESH + "*MATERIAL,NAME=AL\n*ELASTIC\n70000.,0.33\n*SOLID SECTION,ELSET=E1,MATERIAL=AL\n"
         "*STEP\n*STATIC\n*END STEP\n")
 
 

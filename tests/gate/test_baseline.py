@@ -12,7 +12,7 @@ from linter.cli import main
 from linter.findings import Finding
 from linter.fingerprint import SARIF_KEY, _key_data, assign
 
-MESH = "*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\n1,1,2,3,4\n"
+from decks import TET_MESH as MESH
 
 
 def deck(nu_a="0.7", nu_b="0.7") -> str:
@@ -189,3 +189,23 @@ def test_keyword_fingerprints_from_the_parsers_text(tmp_path, monkeypatch):
     monkeypatch.setattr(fp, "line_texts", real)
     assert fp.assign(res.findings, [str(tmp_path)]) == shown
     assert {f.rule: f.fingerprint for f in res.findings} == got and "elastic/poisson-out-of-range" in got
+
+
+def test_identity_does_not_depend_on_how_the_decks_are_named(tmp_path, capsys, monkeypatch):
+    """A baseline written with absolute paths matches a run that names the folder relative to the working
+    folder, also for findings whose data lists other decks (material drift across two decks)."""
+    models = tmp_path / "models"
+    models.mkdir()
+    mesh = "*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\n1,1,2,3,4\n"
+    for name, e in (("a.inp", "210000."), ("b.inp", "200000.")):
+        (models / name).write_text(mesh + f"*MATERIAL,NAME=STEEL\n*ELASTIC\n{e},0.3\n"
+                                   "*SOLID SECTION,ELSET=E1,MATERIAL=STEEL\n*STEP\n*STATIC\n*END STEP\n")
+    (tmp_path / "other").mkdir()
+    bl = tmp_path / "other" / "baseline.json"       # beside, not above, the decks: the root is the folder checked
+    run(["check", str(models), "--units", "mm-tonne-s", "--write-baseline", str(bl)], capsys)
+    recorded = json.loads(bl.read_text())
+    recorded = recorded["entries"]
+    assert any(e["rule"] == "model/material-drift" for e in recorded)
+    monkeypatch.chdir(tmp_path)
+    _code, doc = findings_json(capsys, "models", "--baseline", "other/baseline.json")
+    assert doc["summary"]["total"] == 0 and doc["summary"]["in_baseline"] == len(recorded)

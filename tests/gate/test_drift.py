@@ -6,7 +6,7 @@ import pytest
 from linter.check import check_paths
 from linter.config import Config
 
-MESH = "*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\n1,1,2,3,4\n"
+from decks import TET_MESH as MESH
 
 
 def deck(e: str, name: str = "Shaft Steel") -> str:

@@ -10,7 +10,7 @@ from linter import CAUTION
 from linter.findings import FileReport, Finding, RunResult
 from linter.reporters.markdown import LIMIT, render
 
-MESH = "*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\n1,1,2,3,4\n"
+from decks import TET_MESH as MESH
 
 
 def many(n: int) -> RunResult:

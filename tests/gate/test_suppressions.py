@@ -16,8 +16,9 @@ from linter.check import check_paths
 from linter.cli import main
 from linter.config import Config
 
+from decks import TET_MESH as MESH
+
 REPO = Path(__file__).resolve().parents[2]
-MESH = "*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\n1,1,2,3,4\n"
 POISSON = "elastic/poisson-out-of-range"
 
 

@@ -135,3 +135,64 @@ def test_unstable_message_names_both_ranges():
     derive_hyper(m, cfg)
     f = run_rules(m, cfg)[0]
     assert f.severity == "warning" and "only outside the working range 0.6-1.4 " in f.message
+
+
+def test_bulk_ratio_exactly_at_the_limit_is_not_reported():
+    # K0/mu0 = 20 exactly (C10 = 0.5, D1 = 0.1: mu0 = 1, K0 = 2/D1 = 20) is not "below 20"
+    assert _soft(1.0, 20.0) == []
+
+
+def test_a_very_soft_gel_is_judged_by_its_ratio_not_by_the_size_of_K0():
+    # mu0 = 0.01, K0 = 0.1 (K0/mu0 = 10): the ratio is below 20 although K0 itself is below 1
+    f = _soft(0.01, 10.0)
+    assert len(f) == 1 and f[0].data["rows"][0]["K0_over_mu0"] == pytest.approx(10.0)
+
+
+def test_negative_bulk_modulus_is_reported_once_not_also_as_too_compressible():
+    # neo-Hooke C10 = 0.5, D1 = -4: K0 = 2/D1 = -0.5 (CalculiX manual 6.9.12); K0/mu0 = -0.5 is below 20,
+    # but a negative K0 is the negative-bulk defect, not a soft rubber
+    found = _run(_model(_block("neo-hooke", [(0.5, -4.0)])))
+    assert [f.rule for f in found] == ["hyper/negative-bulk"]
+    assert found[0].data["rows"][0]["K0"] == pytest.approx(-0.5)
+
+
+def test_zero_D2_is_not_listed_among_the_negative_D():
+    # reduced polynomial N = 2 (C10, C20, D1, D2) with D1 < 0 and D2 = 0: only D1 is negative
+    found = _of(_run(_model(_block("reduced-polynomial-2", [(0.5, 0.01, -0.002, 0.0)]))), "hyper/negative-bulk")
+    assert len(found) == 1 and "D1 = -0.002" in found[0].message and "D2" not in found[0].message
+
+
+def test_hyperfoam_with_a_small_negative_bulk_modulus():
+    # hyperfoam N = 1 (mu1, alpha1, nu1) = (1, 2, -2): beta1 = nu1/(1 - 2 nu1) = -0.4 and
+    # K0 = 2 mu1 (1/3 + beta1) = -0.1333 (CalculiX User's Manual *HYPERFOAM): negative although above -1
+    found = _of(_run(_model(_block("hyperfoam-1", [(1.0, 2.0, -2.0)], kind="hyperfoam"))), "hyper/negative-bulk")
+    assert len(found) == 1
+    assert found[0].data["rows"][0]["K0"] == pytest.approx(2.0 * (1.0 / 3.0 - 0.4))
+
+
+def test_unit_system_without_a_confidence_counts_as_confidence_zero():
+    # with hyper.unit_min_confidence 0 every inferred unit system is trusted, also one that gives no confidence:
+    # the SI limit 1e8 Pa then applies, so mu0 = 5e7 is an elastomer
+    cfg = Config.from_mapping({"select": ["hyper/too-compressible"],
+                               "thresholds": {"hyper": {"unit_min_confidence": 0.0}}})
+    m = _model(_block("neo-hooke", [(2.5e7, 2.0 / (10.0 * 5e7))]),
+               unit_system={"name": "SI", "stress_scale_to_pa": 1.0, "declared": False})
+    derive_hyper(m, cfg)
+    found = run_rules(m, cfg)
+    assert len(found) == 1 and found[0].data["elastomer_mu0"] == pytest.approx(1e8)
+
+
+def test_finding_points_at_the_file_that_holds_the_block():
+    # a material opened in the main deck with its *HYPERELASTIC card in an included file: the finding names
+    # the included file and the card's line, not the *MATERIAL line
+    block = PropertyBlock(kind="hyperelastic", form="neo-hooke", loc=Loc("rubber.inc", 3), card="*HYPERELASTIC",
+                          rows=[Row((0.0, 0.001), None, Loc("rubber.inc", 4))])
+    found = _run(_model(block))
+    assert [(f.rule, f.path, f.line) for f in found] == [("hyper/negative-initial-shear", "rubber.inc", 3)]
+
+
+def test_unstable_message_names_the_criterion_the_scan_used():
+    from linter.physics.hyper_stability import CRITERION
+
+    found = _run(_model(_block("ogden-2", [(0.8, 1.0, -0.3, 4.0, 0.001, 0.0)])), "hyper/unstable")
+    assert f"(criterion: {CRITERION}, scanned" in found[0].message and found[0].data["criterion"] == CRITERION
