@@ -137,16 +137,20 @@ def _norm(text: str) -> str:
     return " ".join(text.split())
 
 
-def assign(findings: list, roots: list[str]) -> dict[str, str]:
-    """Set ``fingerprint`` on every finding (reads the offending lines from the files); return
-    fingerprint -> the offending text, whitespace collapsed (for readable baseline entries)."""
+def assign(findings: list, roots: list[str], known: Optional[dict[str, dict[int, str]]] = None) -> dict[str, str]:
+    """Set ``fingerprint`` on every finding (the offending lines from ``known``, path -> line -> text as the
+    check took them from the parser's text, else read from the files); return fingerprint -> the
+    offending text, whitespace collapsed (for readable baseline entries)."""
     from .model import norm_key
 
+    known = known or {}
     wanted: dict[str, set[int]] = {}
     for f in findings:
-        if f.path and f.line:
+        if f.path and f.line and int(f.line) not in known.get(f.path, {}):
             wanted.setdefault(f.path, set()).add(int(f.line))
-    texts = {p: line_texts(p, lines) for p, lines in wanted.items()}
+    texts = {p: dict(lines) for p, lines in known.items()}
+    for p, lines in wanted.items():
+        texts.setdefault(p, {}).update(line_texts(p, lines))
     seen: dict[str, int] = {}
     shown: dict[str, str] = {}
     for f in sorted(findings, key=lambda f: (str(f.path or ""), f.line or 0, f.rule, f.message)):
