@@ -31,7 +31,11 @@ class BaselineError(ValueError):
 def fingerprint_run(result, paths: list[str], baseline: Optional[str] = None) -> tuple[list[str], dict[str, str]]:
     """Fingerprint every finding of the run; return (roots, fingerprint -> offending text)."""
     roots = roots_for(paths, baseline)
-    return roots, assign(result.findings, roots)
+    known: dict[str, dict[int, str]] = {}
+    for fr in result.files:                       # the lines the check took from the parsers' text
+        for p, lines in (getattr(fr, "line_texts", None) or {}).items():
+            known.setdefault(p, {}).update(lines)
+    return roots, assign(result.findings, roots, known)
 
 
 def entries(result, roots: list[str], texts: dict[str, str]) -> list[dict[str, Any]]:

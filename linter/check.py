@@ -77,6 +77,7 @@ def check_file(path: str, fmt: str, config: Config, policy: IncludePolicy, detai
         if notes:
             report.findings = finalize(report.findings + notes, config)
     report.dialect = model.dialect
+    report.line_texts = finding_line_texts(model, report.findings)
     report.materials = material_summary(model)
     report.unchecked = [{"what": u.what, "path": u.loc.path, "line": u.loc.line, "reason": u.reason,
                          "material": u.material} for u in model.unchecked]
@@ -98,6 +99,22 @@ def check_file(path: str, fmt: str, config: Config, policy: IncludePolicy, detai
     report.incomplete = registry.makes_incomplete(report.findings)
     report.seconds = time.perf_counter() - t0
     return report
+
+
+def finding_line_texts(model, findings) -> dict[str, dict[int, str]]:
+    """The lines the findings point at, from the text the parser kept (``DeckModel.texts``), each found
+    from the nearest line the parser recorded (``extras["line_anchors"]``, at most 64 lines on)."""
+    texts = getattr(model, "texts", None)
+    if not texts:
+        return {}
+    from .parsers.buffers import line_texts
+
+    wanted: dict[str, set[int]] = {}
+    for f in findings:
+        if f.path in texts and f.line:
+            wanted.setdefault(f.path, set()).add(int(f.line))
+    anchors = model.extras.get("line_anchors") or {}
+    return {p: line_texts(texts[p], lines, anchors.get(p, ()), reach=64) for p, lines in wanted.items()}
 
 
 def _type_counts(model) -> dict[str, int]:

@@ -80,6 +80,9 @@ class FileReport:
     details: dict[str, Any] = field(default_factory=dict)
     #: suppression comments of run-level rules, settled after the run-level stages (not reported)
     deferred: list[Any] = field(default_factory=list)
+    #: path -> line -> text of the lines findings point at, taken from the text the parser read (for the
+    #: fingerprints: no second read of the file); not part of any report
+    line_texts: dict[str, dict[int, str]] = field(default_factory=dict, repr=False)
 
     def to_dict(self) -> dict[str, Any]:
         out: dict[str, Any] = {

@@ -103,9 +103,17 @@ _FLOAT = re.compile(r"[-+]?(?:\d+\.\d*|\.\d+|\d+(?=[eE]))(?:[eE][-+]?\d+)?")
 
 def _key_text(value: str, roots: list[str]) -> str:
     """A text value as it enters the key: a path relative to the root, line references and
-    floating-point numbers written out replaced by ``#`` (they move or are rounded)."""
+    floating-point numbers written out replaced by ``#`` (they move or are rounded).
+
+    A path is made relative whether the run named the decks by absolute paths or relative to the working
+    folder (``models/a.inp`` from the repository, ``a.inp`` from inside ``models``): a value with a
+    path separator that lies under a root is taken for a path."""
     if os.path.isabs(value):
         return relative(value, roots)
+    if "/" in value or os.sep in value:
+        ap = os.path.abspath(value)
+        if any(ap.startswith(r.rstrip(os.sep) + os.sep) for r in roots):
+            return relative(ap, roots)
     return _FLOAT.sub("#", _LINE_REF.sub("line #", value))
 
 
@@ -129,16 +137,20 @@ def _norm(text: str) -> str:
     return " ".join(text.split())
 
 
-def assign(findings: list, roots: list[str]) -> dict[str, str]:
-    """Set ``fingerprint`` on every finding (reads the offending lines from the files); return
-    fingerprint -> the offending text, whitespace collapsed (for readable baseline entries)."""
+def assign(findings: list, roots: list[str], known: Optional[dict[str, dict[int, str]]] = None) -> dict[str, str]:
+    """Set ``fingerprint`` on every finding (the offending lines from ``known``, path -> line -> text as the
+    check took them from the parser's text, else read from the files); return fingerprint -> the
+    offending text, whitespace collapsed (for readable baseline entries)."""
     from .model import norm_key
 
+    known = known or {}
     wanted: dict[str, set[int]] = {}
     for f in findings:
-        if f.path and f.line:
+        if f.path and f.line and int(f.line) not in known.get(f.path, {}):
             wanted.setdefault(f.path, set()).add(int(f.line))
-    texts = {p: line_texts(p, lines) for p, lines in wanted.items()}
+    texts = {p: dict(lines) for p, lines in known.items()}
+    for p, lines in wanted.items():
+        texts.setdefault(p, {}).update(line_texts(p, lines))
     seen: dict[str, int] = {}
     shown: dict[str, str] = {}
     for f in sorted(findings, key=lambda f: (str(f.path or ""), f.line or 0, f.rule, f.message)):

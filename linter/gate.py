@@ -6,8 +6,8 @@ import os
 import sys
 from typing import Optional
 
-#: report formats that always carry fingerprints (JSON carries them when a baseline is compared or written:
-#: computing them reads the offending lines again, ~0.1 s on a 1M-element deck whose materials come last)
+#: report formats that always carry fingerprints (JSON carries them when a baseline is compared or written;
+#: the offending lines come from the text the parser kept, ``FileReport.line_texts``, where it keeps one)
 FINGERPRINTED = ("sarif",)
 
 

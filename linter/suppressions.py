@@ -25,8 +25,8 @@ from dataclasses import dataclass, field
 from typing import Any, Optional
 
 MARKERS = (b"deckwarden", b"DECKWARDEN", b"Deckwarden")
-_ONE_BYTE = (b"w", b"W")          # every marker holds one of these: a block without them has no marker
-assert all(any(c in m for c in _ONE_BYTE) for m in MARKERS)
+MARK_BYTES = (b"w", b"W")         # every marker holds one of these: text without them has no marker
+assert all(any(c in m for c in MARK_BYTES) for m in MARKERS)
 _HEAD = re.compile(r"^\s*deckwarden\s+accept\b(?P<rest>.*)$", re.I)
 _TAIL = re.compile(r"^(?P<ids>.*?)(?:\s+for\s+(?P<scope>.*?))?(?:\s+because\b\s*(?P<reason>.*))?\s*$", re.I | re.S)
 #: findings no comment can accept
@@ -93,20 +93,27 @@ def scan_file(path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
     return scan_text(data, path, prefixes)
 
 
-def scan_text(data, path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
+def scan_text(data, path: str, prefixes: tuple[str, ...], marks: Optional[list[int]] = None,
+              anchors: Optional[list[tuple[int, int]]] = None) -> list[Suppression]:
     """The suppression comments of a file's text (bytes or a mapped file), each with the line of the next
     code line (``target``).
 
     Only the places of a marker word are looked at: they are found by one-byte searches for the ``w`` of
     ``deckwarden`` (a search at memory speed; numbers never hold it), so the usual deck, without
-    suppressions, costs one pass over its text and is never split into lines."""
+    suppressions, costs one pass over its text and is never split into lines. ``marks``: the offsets of
+    those bytes when the parser found them already (``extras["mark_bytes"]``): no pass at all; ``anchors``:
+    (line, offset) of lines the parser recorded (``extras["line_anchors"]``), so a comment's line number is
+    counted from the nearest one before it."""
+    from bisect import bisect_right
     from .parsers import buffers
 
     bprefixes = tuple(p.encode() for p in prefixes)
     found: list[Suppression] = []
     at_line = (0, 1)                      # (offset of a line start, its line): line numbers counted onwards
+    anchors = sorted(anchors or (), key=lambda a: a[1])
+    anchor_at = [a[1] for a in anchors]
     last_start = -1
-    for at in _marker_places(data, buffers):
+    for at in _marker_places(data, buffers, marks):
         start = data.rfind(b"\n", 0, at) + 1
         if start == last_start:
             continue
@@ -120,6 +127,10 @@ def scan_text(data, path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
         m = _HEAD.match(text)
         if not m:
             continue
+        if anchors:
+            k = bisect_right(anchor_at, start) - 1
+            if k >= 0 and anchor_at[k] > at_line[0]:
+                at_line = (anchor_at[k], anchors[k][0])
         n = buffers.line_number(data, start, at_line)
         at_line = (start, n)
         sup = parse_directive(m.group("rest"), path, n)
@@ -138,15 +149,14 @@ def scan_text(data, path: str, prefixes: tuple[str, ...]) -> list[Suppression]:
     return found
 
 
-def _marker_places(data, buffers) -> list[int]:
-    """Where one of ``MARKERS`` starts in ``data``, in order."""
+def _marker_places(data, buffers, marks: Optional[list[int]] = None) -> list[int]:
+    """Where one of ``MARKERS`` starts in ``data``, in order (``marks``: where the bytes of ``MARK_BYTES`` are)."""
     out = set()
-    for one in _ONE_BYTE:
-        spellings = [(m, m.find(one)) for m in MARKERS if one in m]
-        for i in buffers.find_all(data, one):
-            for m, k in spellings:
-                if i >= k and data[i - k:i - k + len(m)] == m:
-                    out.add(i - k)
+    spellings = [(m, m.find(one)) for one in MARK_BYTES for m in MARKERS if one in m]
+    for i in (buffers.find_all(data, *MARK_BYTES) if marks is None else marks):
+        for m, k in spellings:
+            if i >= k and m[k] == data[i] and data[i - k:i - k + len(m)] == m:
+                out.add(i - k)
     return sorted(out)
 
 
@@ -260,9 +270,12 @@ def apply(model, findings: list, prefixes: tuple[str, ...], deferred: Optional[l
     # a format whose files include data without comments (the meshes of the material-file route) lists
     # the files that carry its comments in extras["commented_files"]
     texts = getattr(model, "texts", None) or {}
+    marks = model.extras.get("mark_bytes") or {}
+    anchors = model.extras.get("line_anchors") or {}
     for path in dict.fromkeys(model.extras.get("commented_files") or model.files or [model.path]):
         text = texts.get(path)           # the text the parser read: no second read of the file
-        sups.extend(scan_file(path, prefixes) if text is None else scan_text(text, path, prefixes))
+        sups.extend(scan_file(path, prefixes) if text is None else
+                    scan_text(text, path, prefixes, marks.get(path), anchors.get(path)))
     if not sups:
         return []
     _resolve(sups, model)

@@ -29,8 +29,12 @@ def is_mapped(data) -> bool:
     return isinstance(data, mmap.mmap)
 
 
-def open_text(path: str, max_size: int) -> Source:
-    """The file as :class:`Source`; ``data`` is a read-only ``mmap`` for a large plain file, else bytes."""
+def open_text(path: str, max_size: int, checked: bool = True) -> Source:
+    """The file as :class:`Source`; ``data`` is a read-only ``mmap`` for a large plain file, else bytes.
+
+    ``checked=False``: only the head and the last byte of a large file are looked at before it is mapped;
+    the caller checks the rest (ASCII, no CR) in its own first pass and reads the file with
+    ``read_deck_bytes`` when that fails (the keyword parser does, to spare a pass)."""
     size = checked_size(path, max_size)
     if size <= MAP_ABOVE or _DONTNEED is None:
         return read_deck_bytes(path, max_size)
@@ -39,19 +43,22 @@ def open_text(path: str, max_size: int) -> Source:
             mm = mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ)
     except (OSError, ValueError):
         return read_deck_bytes(path, max_size)
-    if not _plain(mm):
+    if not _plain(mm, checked):
         mm.close()
         return read_deck_bytes(path, max_size)          # decoding or line-end normalisation needed
     return Source(path=path, data=mm, encoding="utf-8", line_ends="lf")
 
 
-def _plain(mm: mmap.mmap) -> bool:
-    """ASCII text with ``\\n`` line ends and a final line end (what ``read_deck_bytes`` would leave as is)."""
+def _plain(mm: mmap.mmap, whole: bool = True) -> bool:
+    """ASCII text with ``\\n`` line ends and a final line end (what ``read_deck_bytes`` would leave as is);
+    not ``whole``: the head and the last byte only."""
     n = len(mm)
     head = mm[:65536]
     if not n or mm[n - 1:n] != b"\n" or looks_binary(head) or head.startswith((b"\xef\xbb\xbf", b"\xff\xfe",
                                                                                 b"\xfe\xff")):
         return False
+    if not whole:
+        return True
     arr = np.frombuffer(mm, dtype=np.uint8)
     try:
         for lo in range(0, n, WINDOW):
@@ -92,17 +99,22 @@ def count(data, byte: bytes, a: int = 0, b: Optional[int] = None) -> int:
     return total
 
 
-def find_all(data, word: bytes, a: int = 0, b: Optional[int] = None) -> Iterator[int]:
-    """Every start of ``word`` in ``data[a:b]``, in order (mapped text: window by window, given back)."""
+def find_all(data, *words: bytes, a: int = 0, b: Optional[int] = None) -> Iterator[int]:
+    """Every start of each of ``words`` in ``data[a:b]``, in order within each window (mapped text: window by
+    window, every word searched while the window's pages are in, then given back)."""
     b = len(data) if b is None else min(b, len(data))
     step = WINDOW if isinstance(data, mmap.mmap) else max(1, b - a)
+    longest = max(len(w) for w in words)
     for lo in range(a, b, step):
         hi = min(b, lo + step)
-        stop = min(b, hi + len(word) - 1)
-        i = data.find(word, lo, stop)
-        while i >= 0:
-            yield i
-            i = data.find(word, i + 1, stop)
+        stop = min(b, hi + longest - 1)
+        found = []
+        for word in words:
+            i = data.find(word, lo, min(stop, hi + len(word) - 1))
+            while i >= 0:
+                found.append(i)
+                i = data.find(word, i + 1, min(stop, hi + len(word) - 1))
+        yield from sorted(found)
         release(data, lo, hi)
 
 
@@ -112,11 +124,13 @@ def line_number(data, pos: int, known: tuple[int, int] = (0, 1)) -> int:
     return line + count(data, b"\n", at, pos)
 
 
-def line_texts(data, wanted: Iterable[int], anchors: Iterable[tuple[int, int]] = ()) -> dict[int, str]:
+def line_texts(data, wanted: Iterable[int], anchors: Iterable[tuple[int, int]] = (),
+               reach: Optional[int] = None) -> dict[int, str]:
     """The text of the wanted 1-based lines (UTF-8, undecodable bytes replaced), without the line end.
 
     ``anchors``: known (line, byte offset of its start) pairs, e.g. the keyword lines a parser found;
-    each wanted line is reached from the nearest anchor before it."""
+    each wanted line is reached from the nearest anchor before it. ``reach``: lines more than this many
+    lines after their anchor are left out (the answer then costs a few searches per line, never a scan)."""
     todo = sorted({int(w) for w in wanted if int(w) >= 1})
     known = sorted(set(anchors) | {(1, 0)})
     out: dict[int, str] = {}
@@ -127,6 +141,8 @@ def line_texts(data, wanted: Iterable[int], anchors: Iterable[tuple[int, int]] =
             if known[k][0] > line:
                 line, at = known[k]
             k += 1
+        if reach is not None and w - line > reach:
+            continue
         if w - line > 64:                 # far: count line ends window by window
             at, line = _skip_lines(data, at, w - line), w
         while line < w and at < n:

@@ -116,18 +116,38 @@ def min_edge_lengths(conn: np.ndarray, node_ids: np.ndarray, coords, element_typ
         return np.zeros(0)
     cols = coords if isinstance(coords, tuple) else columns(coords)
     pairs = edge_pairs(element_type, conn.shape[1])
-    idx = node_index(node_ids, conn)
-    safe = np.where(idx < 0, 0, idx)
-    xyz = [np.take(c, safe) for c in cols]                   # 3 x (n, nodes)
-    best = np.full(conn.shape[0], np.inf)
+    idx, missing = _rows_of(node_ids, conn)
+    xyz = [np.take(c, idx) for c in cols]                    # 3 x (n, nodes)
+    n = conn.shape[0]
+    best = np.full(n, np.inf)
+    d2, t = np.empty(n), np.empty(n)
     for a, b in pairs:                                       # a running minimum, one edge at a time
-        d2 = (xyz[0][:, a] - xyz[0][:, b]) ** 2
-        d2 += (xyz[1][:, a] - xyz[1][:, b]) ** 2
-        d2 += (xyz[2][:, a] - xyz[2][:, b]) ** 2
+        np.subtract(xyz[0][:, a], xyz[0][:, b], out=d2)
+        np.multiply(d2, d2, out=d2)
+        for c in xyz[1:]:
+            np.subtract(c[:, a], c[:, b], out=t)
+            np.multiply(t, t, out=t)
+            d2 += t
         np.minimum(best, d2, out=best)
-    out = np.sqrt(best)
-    out[(idx < 0).any(axis=1)] = np.nan
+    out = np.sqrt(best, out=best)
+    if missing is not None:
+        out[missing] = np.nan
     return out
+
+
+def _rows_of(node_ids, conn: np.ndarray) -> tuple[np.ndarray, Optional[np.ndarray]]:
+    """Row of every node of ``conn`` (0 where undefined) and which elements have an undefined node (None:
+    none has). Consecutive node ids whose range holds every node of ``conn`` need no look-up."""
+    lk = node_ids if isinstance(node_ids, NodeLookup) else NodeLookup(node_ids)
+    if lk.first is not None and conn.size:
+        row = conn - lk.first
+        if int(row.min()) >= 0 and int(row.max()) < lk.sorted_ids.size:
+            return row, None
+    idx = node_index(lk, conn)
+    bad = idx < 0
+    if not bad.any():
+        return idx, None
+    return np.where(bad, 0, idx), bad.any(axis=1)
 
 
 def smallest_edge(conn: np.ndarray, node_ids: np.ndarray, coords: np.ndarray, element_type: str,

@@ -166,3 +166,46 @@ def test_files_from_errors(repo, capsys):
     (repo / "empty.txt").write_text("\n# none\n")
     code, _, err = run(["check", "--files-from", str(repo / "empty.txt")], capsys)
     assert code == 2 and "lists no path" in err
+
+
+def test_keyword_fingerprints_from_the_parsers_text(tmp_path, monkeypatch):
+    """Fingerprints of a keyword deck come from the lines the check took from the parser's text, and equal
+    those computed by reading the file again."""
+    import linter.fingerprint as fp
+    from linter.check import check_paths
+    from linter.config import Config
+
+    p = tmp_path / "pv40_seal.inp"
+    p.write_text("*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\n1,1,2,3,4\n"
+                 "*MATERIAL,NAME=SEAL\n*ELASTIC\n210000.,0.7\n*SOLID SECTION,ELSET=E1,MATERIAL=SEAL\n"
+                 "*STEP\n*STATIC\n*END STEP\n")
+    res = check_paths([str(p)], Config.from_mapping({"units": "mm-tonne-s"}))
+    (fr,) = res.files
+    assert fr.line_texts[str(p)][10] == "210000.,0.7"               # nu 0.7: the finding's line (10)
+    real = fp.line_texts
+    monkeypatch.setattr(fp, "line_texts", lambda path, wanted: (_ for _ in ()).throw(AssertionError(path)))
+    shown = fp.assign(res.findings, [str(tmp_path)], fr.line_texts)
+    got = {f.rule: f.fingerprint for f in res.findings}
+    monkeypatch.setattr(fp, "line_texts", real)
+    assert fp.assign(res.findings, [str(tmp_path)]) == shown
+    assert {f.rule: f.fingerprint for f in res.findings} == got and "elastic/poisson-out-of-range" in got
+
+
+def test_identity_does_not_depend_on_how_the_decks_are_named(tmp_path, capsys, monkeypatch):
+    """A baseline written with absolute paths matches a run that names the folder relative to the working
+    folder, also for findings whose data lists other decks (material drift across two decks)."""
+    models = tmp_path / "models"
+    models.mkdir()
+    mesh = "*NODE\n1,0,0,0\n2,1,0,0\n3,0,1,0\n4,0,0,1\n*ELEMENT,TYPE=C3D4,ELSET=E1\n1,1,2,3,4\n"
+    for name, e in (("a.inp", "210000."), ("b.inp", "200000.")):
+        (models / name).write_text(mesh + f"*MATERIAL,NAME=STEEL\n*ELASTIC\n{e},0.3\n"
+                                   "*SOLID SECTION,ELSET=E1,MATERIAL=STEEL\n*STEP\n*STATIC\n*END STEP\n")
+    (tmp_path / "other").mkdir()
+    bl = tmp_path / "other" / "baseline.json"       # beside, not above, the decks: the root is the folder checked
+    run(["check", str(models), "--units", "mm-tonne-s", "--write-baseline", str(bl)], capsys)
+    recorded = json.loads(bl.read_text())
+    recorded = recorded["entries"]
+    assert any(e["rule"] == "model/material-drift" for e in recorded)
+    monkeypatch.chdir(tmp_path)
+    _code, doc = findings_json(capsys, "models", "--baseline", "other/baseline.json")
+    assert doc["summary"]["total"] == 0 and doc["summary"]["in_baseline"] == len(recorded)

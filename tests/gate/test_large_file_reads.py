@@ -45,3 +45,28 @@ def test_suppression_scan_of_mapped_and_read_text(tmp_path, monkeypatch, window,
     assert [(line, target) for line, _r, target, _s in got] == [(n + 40, n + 41),
                                                                 (n + len(LINES) - 1, n + len(LINES) - 1)]
     assert got[1][1] == ["material/density-missing"]
+
+
+@pytest.mark.parametrize("mapped", [True, False])
+@pytest.mark.parametrize("final_newline", [True, False])
+@pytest.mark.parametrize("anchors", [(), ((40, None), (41, None)), ((3, None), (90, None))])
+def test_buffer_line_texts_match_a_whole_file_read(tmp_path, monkeypatch, mapped, final_newline, anchors):
+    from linter.parsers import buffers
+
+    path = tmp_path / "pv40_block.inp"
+    filler = [f"{i}, 0.0, 0.0" for i in range(1, 500)]              # far lines: counted window by window
+    path.write_bytes(("\n".join(LINES + filler) + ("\n" if final_newline else "")).encode())
+    monkeypatch.setattr(buffers, "MAP_ABOVE", 0 if mapped else 1 << 40)
+    monkeypatch.setattr(buffers, "WINDOW", 4096)
+    data = buffers.open_text(str(path), 1 << 30).data
+    whole = path.read_bytes().split(b"\n")             # reference: Python's own split of the whole file
+    starts = [0]
+    for ln in whole[:-1]:
+        starts.append(starts[-1] + len(ln) + 1)
+    known = [(line, starts[line - 1]) for line, _ in anchors]
+    wanted = {1, 2, 17, 40, 41, len(LINES), len(LINES) + 300, len(whole) - 1, len(whole), len(whole) + 5}
+    got = buffers.line_texts(data, wanted, known)
+    assert got == {n: whole[n - 1].decode() for n in wanted if n <= len(whole)}
+    near = buffers.line_texts(data, wanted, known, reach=5)       # only lines close after a known one
+    near_lines = {n for n in wanted if n <= len(whole) and any(0 <= n - a <= 5 for a in [1] + [a for a, _ in known])}
+    assert near == {n: whole[n - 1].decode() for n in near_lines}

@@ -100,3 +100,13 @@ def test_all_nodes_mixes_both_readers_in_file_order(monkeypatch, piece):
     np.testing.assert_array_equal(gid, want[:, 0].astype(np.int64))
     np.testing.assert_array_equal(bits(xyz), bits(general(data)[:, 1:]))
     np.testing.assert_allclose(xyz, want[:, 1:], rtol=1e-8)     # %15.8e keeps 9 significant digits
+
+
+def test_lines_of_unequal_length_are_read_line_by_line():
+    # 4 + 3 + 5 fields hold as many numbers as three lines of 4, yet each data line of *NODE is one node
+    # (CalculiX User's Manual, *NODE: one line per node); a missing coordinate reads 0 and fields after the
+    # 4th are not read, as rows.node_table documents
+    chunk = b"1,2,3,4\n5,6,7\n8,9,10,11,12\n"
+    got = general(chunk)
+    assert got.tolist() == [[1, 2, 3, 4], [5, 6, 7, 0], [8, 9, 10, 11]]
+    assert KM.plain_rows(chunk, 4) is None       # the fast path declines uneven lines

@@ -12,7 +12,7 @@ from typing import Optional
 import numpy as np
 
 from ...model import ElementBlock, ElementSet, Lazy, Loc, norm_key
-from .. import sampling
+from .. import buffers, sampling
 from . import rows
 from .lex import KeywordLine, Reader, is_int
 
@@ -74,7 +74,8 @@ def read_element(rd: Reader, kw: KeywordLine, start: int, end: int, first_line: 
             nodes = max(0, first - 1)
         # the usual layouts (one element per line, with or without a trailing comma) pass this test;
         # otherwise some line is not one element: group the lines as CalculiX does
-        spans = bool(nodes) and rd.data.count(b",", start, end) not in (nlines * nodes, nlines * (nodes + 1))
+        spans = bool(nodes) and buffers.count(rd.data, b",", start, end) not in (nlines * nodes,
+                                                                                nlines * (nodes + 1))
     if spans:                        # elements continue on the next lines (grouped as CalculiX does)
         count, incomplete = rows.element_count(rd.data, start, end, nodes + 1, STREAM_PIECE)
         if incomplete:
@@ -201,11 +202,13 @@ def _node_table(chunk: bytes) -> np.ndarray:
 def _node_sample(data: bytes, start: int, end: int, n_lines: int) -> np.ndarray:
     """The node table of a sample of the block's lines (``sampling``), parsed with numpy in one go."""
     want = sampling.sample_size(n_lines)
-    return _node_table(sampling.line_pieces(data, start, end, n_lines, want))
+    sample = sampling.line_pieces(data, start, end, n_lines, want)
+    buffers.release(data, start, end)                   # a mapped file: the sampled pages go back
+    return _node_table(sample)
 
 
 def _all_nodes(ranges) -> tuple[np.ndarray, np.ndarray]:
-    total = sum(d.count(b"\n", s, e) + 1 for d, s, e in ranges)     # at least the data lines
+    total = sum(buffers.count(d, b"\n", s, e) + 1 for d, s, e in ranges)     # at least the data lines
     gid, xyz, n = np.zeros(total, dtype=np.int64), np.zeros((total, 3)), 0
     for d, s, e in ranges:                  # filled piece by piece: no full-size temporary
         for a, b in _line_pieces(d, s, e, rows.PIECE):
@@ -214,6 +217,7 @@ def _all_nodes(ranges) -> tuple[np.ndarray, np.ndarray]:
                 tab = rows.node_table(rows.compact(d[a:b]))
             gid[n:n + tab.shape[0]], xyz[n:n + tab.shape[0]] = rows.to_int(tab[:, 0]), tab[:, 1:]
             n += tab.shape[0]
+            buffers.release(d, a, b)         # a mapped file: the piece's pages go back
     return gid[:n], xyz[:n]
 
 

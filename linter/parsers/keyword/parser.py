@@ -6,11 +6,12 @@ elements, without a Python object per item). Includes are read in place, as the
 solver does (``*INCLUDE`` text is inlined), with the included file's own path and
 line numbers on everything read from it.
 
-``DeckModel.extras`` written here: ``"encoding"`` (per file), ``"line_ends"`` (per file).
+``DeckModel.extras`` written here: ``"encoding"`` (per file), ``"line_ends"`` (per file), ``"line_anchors"``
+(per file: (line, byte offset) of every keyword line, to find a line of ``DeckModel.texts`` quickly),
+``"mark_bytes"`` (per file: offsets of the bytes the suppression scan looks for, found in the first pass).
 """
 from __future__ import annotations
 
-import itertools
 import os
 import re
 from typing import Optional
@@ -20,11 +21,13 @@ import numpy as np
 from ..includes import IncludeTracker
 from ...model import DeckModel, Include, Loc, Material, Procedure, Unchecked, norm_key
 from . import DEFAULT_DIALECT, FORMAT
+from .. import buffers
 from ..sources import SourceError, read_deck_bytes
 from . import cards, keywords
 from . import mesh
 from .lex import KeywordLine, Reader, parse_keyword_line
 from .materials import MATERIAL_CARDS, read_material_card
+from ...suppressions import MARK_BYTES
 
 MAX_NAME = 80
 
@@ -34,11 +37,16 @@ _SPECIAL_AT_START = re.compile(rb"[ \t]*[*\n]")
 _CHUNK = 1 << 21
 
 
-def _special_lines(data: bytes) -> tuple[list[int], list[int], np.ndarray, int]:
+def _special_lines(data: bytes, plain: bool = False, marks: Optional[list] = None
+                   ) -> Optional[tuple[list[int], list[int], np.ndarray, int]]:
     """Where the lines start that begin (after blanks) with a keyword (``*`` but not ``**``), their 1-based line
     numbers, the number of comment and blank lines before each of them (cumulative, then the total), and the
     number of newlines in ``data``: the matches of ``_SPECIAL``, found with numpy in chunks (a few MB of
-    temporaries at a time) instead of a regular-expression scan; only keyword lines become Python ints."""
+    temporaries at a time) instead of a regular-expression scan; only keyword lines become Python ints.
+
+    ``plain``: also check, on the way, that the text is plain (ASCII, no CR: what ``buffers.open_text(...,
+    checked=False)`` has not checked); None when it is not. ``marks``: a list that gets the offsets of the
+    bytes the suppression scan looks for (``suppressions.MARK_BYTES``), found while each chunk is at hand."""
     arr = np.frombuffer(data, dtype=np.uint8)
     n = arr.size
     positions: list[int] = []
@@ -47,6 +55,14 @@ def _special_lines(data: bytes) -> tuple[list[int], list[int], np.ndarray, int]:
     n_skip = 0
     seen = 0
     for lo in range(0, n, _CHUNK):
+        if plain and (int(arr[lo:lo + _CHUNK].max()) >= 128 or data.find(b"\r", lo, lo + _CHUNK) >= 0):
+            return None
+        if marks is not None:
+            for one in MARK_BYTES:
+                i = data.find(one, lo, lo + _CHUNK)
+                while i >= 0:
+                    marks.append(i)
+                    i = data.find(one, i + 1, lo + _CHUNK)
         nl = np.flatnonzero(arr[lo:lo + _CHUNK] == 10) + lo
         if not nl.size:
             continue
@@ -57,6 +73,16 @@ def _special_lines(data: bytes) -> tuple[list[int], list[int], np.ndarray, int]:
         special = (nxt == 42) | ((nxt == 10) & ok)
         first = np.where(ok, head, n - 1)               # where each line's first non-blank is
         blank = np.flatnonzero(((nxt == 32) | (nxt == 9)) & ok)
+        if blank.size:      # only a blank-led line that holds a '*' or ends in a blank can be special
+            keep = np.zeros(nl.size, dtype=bool)
+            keep[-1] = True                             # the last line may go on in the next chunk
+            stars = np.flatnonzero(arr[lo:lo + _CHUNK] == 42) + lo
+            if stars.size:
+                k = np.searchsorted(nl, stars)          # a star after line end k-1 is on the line head[k-1]
+                keep[k[k > 0] - 1] = True
+            last = arr[nl[1:] - 1]
+            keep[:-1] |= (last == 32) | (last == 9)
+            blank = blank[keep[blank]]
         if blank.size:                                  # skip leading blanks, then look again
             idx = head[blank] + 1
             for _ in range(256):
@@ -77,6 +103,7 @@ def _special_lines(data: bytes) -> tuple[list[int], list[int], np.ndarray, int]:
         skips.append(before[kw])
         n_skip += int((~kw).sum())
         seen += nl.size
+        buffers.release(data, lo, lo + _CHUNK)          # a mapped file: the scanned pages go back
     skipped = np.concatenate(skips + [np.array([n_skip])]) if skips else np.array([0])
     return positions, lines, skipped, seen
 
@@ -148,6 +175,24 @@ def _display_base(path: str, options) -> str:
     return os.path.dirname(path)
 
 
+def _include_matches(data):
+    """The candidate ``*INCLUDE`` lines of a file's text; a mapped file window by window, each given back."""
+    head = _INCLUDE_AT_START.match(data)
+    if head:
+        yield head
+    n = len(data)
+    step = buffers.WINDOW if buffers.is_mapped(data) else max(n, 1)
+    lo = 0
+    while lo < n:               # windows end at a line end, which starts the next one (the pattern's '\n')
+        hi = n if n - lo <= step else data.rfind(b"\n", lo + 1, lo + step)
+        if hi <= lo:
+            hi = data.find(b"\n", lo + step)
+            hi = n if hi < 0 else hi
+        yield from _INCLUDE.finditer(data, lo, hi)
+        buffers.release(data, lo, hi)
+        lo = hi
+
+
 def includes_of(path: str, options) -> list[str]:
     """Resolved paths of the files ``path`` includes, recursively (a cheap scan)."""
     tracker = IncludeTracker(options.include)
@@ -155,13 +200,12 @@ def includes_of(path: str, options) -> list[str]:
     out: list[str] = []
 
     def scan(p: str) -> None:
-        try:
-            data = read_deck_bytes(p, options.max_file_size).data
+        try:       # a large file is mapped (CR line ends or other bytes do not matter to this scan)
+            data = buffers.open_text(p, options.max_file_size, checked=False).data
         except SourceError:
             return
         tracker.stack.append(os.path.realpath(p))
-        head = _INCLUDE_AT_START.match(data)
-        for m in itertools.chain([head] if head else [], _INCLUDE.finditer(data)):
+        for m in _include_matches(data):
             kw = parse_keyword_line(m.group(0).lstrip(b"\n"), Loc(p, 0))
             if kw.key != "INCLUDE" or not kw.get("INPUT"):
                 continue
@@ -197,29 +241,37 @@ class _Parser:
     # -- files ------------------------------------------------------------------------
 
     def read_file(self, real_path: str, shown: str) -> None:
-        src = read_deck_bytes(real_path, self.options.max_file_size)
+        src = buffers.open_text(real_path, self.options.max_file_size, checked=False)
+        scan, marks = None, []
+        if buffers.is_mapped(src.data):              # a large file mapped: the first scan checks it is plain
+            scan = _special_lines(src.data, plain=True, marks=marks)
+            if scan is None:
+                src, marks = read_deck_bytes(real_path, self.options.max_file_size), []
         model = self.model
         model.files.append(shown)
         model.extras["encoding"][shown] = src.encoding
         model.extras["line_ends"][shown] = src.line_ends
-        rd = Reader(src.data if src.data.endswith(b"\n") or not src.data else src.data + b"\n", shown,
+        rd = Reader(src.data if src.data[-1:] == b"\n" or not src.data else src.data + b"\n", shown,
                     model.issues)
         model.texts[shown] = rd.data
         if src.encoding in ("latin-1", "utf-16-le", "utf-16-be"):
             rd.issue("encoding", f"the file is encoded as {src.encoding}, not UTF-8", 1, encoding=src.encoding)
         self.tracker.stack.append(os.path.realpath(real_path))
         try:
-            self._read(rd)
+            self._read(rd, scan, marks)
         finally:
             self.tracker.stack.pop()
+            buffers.release(rd.data, 0, len(rd.data))    # a mapped file: whatever the cards touched goes back
 
-    def _read(self, rd: Reader) -> None:
+    def _read(self, rd: Reader, scan=None, marks: Optional[list] = None) -> None:
         data = rd.data
         # one pass over the bytes: the start of every keyword, comment and blank line
         kws: list[tuple[int, int, int]] = []        # (start, end of line, line number)
         skipped: list[int] = [0]                     # comment/blank lines before each keyword, cumulative
         line = 1
-        positions, linenos, before, total_nl = _special_lines(data)
+        positions, linenos, before, total_nl = scan or _special_lines(data, marks=marks)
+        if marks is not None:                        # the suppression scan starts from these
+            self.model.extras.setdefault("mark_bytes", {})[rd.path] = sorted(marks)
         first_is = 0                                 # the first line: a keyword (1), comment/blank (-1), data (0)
         if _SPECIAL_AT_START.match(data):
             c2 = data[:4096].lstrip(b" \t")[:2]
@@ -236,6 +288,7 @@ class _Parser:
             kws.append((pos, len(data) if eol < 0 else eol, line))
             skipped.append(int(before[k]))
         n_skip = int(before[-1])
+        self.model.extras.setdefault("line_anchors", {})[rd.path] = [(ln, pos) for pos, _e, ln in kws]
         first = kws[0][0] if kws else len(data)
         pre = next(rd.lines(0, first, 1), None)
         if pre is not None and self.last_kw is not None and len(self.tracker.stack) > 1:
@@ -336,7 +389,7 @@ class _Parser:
         elif key == "PHYSICALCONSTANTS":
             cards.read_physical_constants(rd, kw, model)
         elif key not in KNOWN_SKIPPED:
-            self.unknown_keyword(rd, kw, rd.data[:max(0, start - 1)].rsplit(b"\n", 1)[-1])
+            self.unknown_keyword(rd, kw, rd.data[rd.data.rfind(b"\n", 0, max(0, start - 1)) + 1:max(0, start - 1)])
             seen = self.unknown.get(key)
             if seen is None:
                 entry = Unchecked(what=kw.written.upper(), loc=kw.loc, reason="")

@@ -21,6 +21,8 @@ from typing import Iterator, Optional
 
 import numpy as np
 
+from ..buffers import release
+
 MAX_FIELDS = 16                 # CalculiX keeps at most 16 fields of a line
 PIECE = 8 << 20
 _ONLY_COMMAS = re.compile(rb"(?m)^,+\n")
@@ -64,6 +66,27 @@ def _drop_comments(c: bytes) -> bytes:
     np.add.at(delta, star, -1)
     np.add.at(delta, stop, 1)
     return b[np.cumsum(delta[:-1], dtype=np.int8) == 0].tobytes()
+
+
+def line_fields(chunk: bytes) -> np.ndarray:
+    """``fields_per_line(compact(chunk))`` without building the compacted text's trailing-comma copy: the
+    fields of each data line counted from its commas (one trailing comma not counted; empty, comment and
+    comma-only lines left out)."""
+    c = chunk.translate(None, b" \t\r")
+    if not c.endswith(b"\n"):
+        c += b"\n"
+    if b"*" in c:
+        c = _drop_comments(c)
+    b = np.frombuffer(c, np.uint8)
+    nl = np.flatnonzero(b == 10)                  # c ends with a line end: every line holds its own
+    if not nl.size:
+        return np.zeros(0, dtype=np.int64)
+    starts = np.concatenate(([0], nl[:-1] + 1))
+    commas = np.add.reduceat((b == 44).view(np.int8), starts, dtype=np.int64)
+    length = nl - starts
+    trailing = (length > 0) & (b[nl - 1] == 44)
+    keep = (length > 0) & (commas < length)
+    return (commas + 1 - trailing)[keep]
 
 
 def fields_per_line(c: bytes) -> np.ndarray:
@@ -195,15 +218,18 @@ def table(c: bytes, width: int, final: bool = True, integer: bool = True) -> tup
     return out, n_used, incomplete
 
 
-def pieces(data: bytes, start: int, end: int, size: int = 0) -> Iterator[tuple[bytes, bool]]:
-    """Compacted pieces of ``data[start:end]`` cut at line ends, and whether each is the last one."""
+def pieces(data: bytes, start: int, end: int, size: int = 0, raw: bool = False) -> Iterator[tuple[bytes, bool]]:
+    """Compacted pieces of ``data[start:end]`` cut at line ends (``raw``: as written), and whether each is
+    the last one."""
     size = size or PIECE
     at = start
     while at < end:
         stop = end if end - at <= size else data.rfind(b"\n", at, at + size) + 1
         if stop <= at:
             stop = data.find(b"\n", at + size, end) + 1 or end
-        yield compact(data[at:stop]), stop >= end
+        piece = data[at:stop] if raw else compact(data[at:stop])
+        release(data, at, stop)                          # a mapped file: the piece's pages go back
+        yield piece, stop >= end
         at = stop
 
 
@@ -251,8 +277,8 @@ def _tail(c: bytes, n_used: int) -> int:
 def element_count(data: bytes, start: int, end: int, width: int, size: int = 0) -> tuple[int, bool]:
     """(number of elements, last one incomplete) of an ``*ELEMENT`` block, without reading the numbers."""
     total, carry, incomplete = 0, np.zeros(0, dtype=np.int64), False
-    for c, last in pieces(data, start, end, size):
-        cnt = np.concatenate((carry, fields_per_line(c)))
+    for c, last in pieces(data, start, end, size, raw=True):
+        cnt = np.concatenate((carry, line_fields(c)))
         elem, used, pos, n_used = group(cnt, width, final=last)
         m = int(elem[-1]) + 1 if elem.size else 0
         total += m
@@ -270,12 +296,16 @@ def node_table(c: bytes) -> np.ndarray:
     vals = values(c)
     n_lines = c.count(b"\n")
     width = c[: c.index(b"\n")].count(b",") + 1
-    if width * n_lines == vals.size:
+    # the quick reshape only when every line has the first line's fields: equal totals are not enough
+    # (4, 3 and 5 fields hold as many numbers as three lines of 4)
+    cnt = fields_per_line(c) if width * n_lines == vals.size else None
+    if cnt is not None and bool((cnt == width).all()):
         tab = vals.reshape(n_lines, width)
         out = np.zeros((n_lines, 4))
         out[:, : min(4, width)] = tab[:, :4]
         return out
-    cnt = fields_per_line(c)
+    if cnt is None:
+        cnt = fields_per_line(c)
     start = np.cumsum(cnt) - cnt
     out = np.zeros((n_lines, 4))
     for j in range(4):
