@@ -77,6 +77,14 @@ def test_safe_inverse_stops_at_a_condition_number_of_1e15():
     assert np.isnan(A.safe_inv(np.diag([0.5e-15, 0.5, 1.0])[None])).all()   # order of the rows does not matter
 
 
+def test_safe_inverse_near_the_largest_float():
+    # [[a, b], [b, a]]^-1 = [[a, -b], [-b, a]] / (a^2 - b^2) (closed form); a^2 overflows unless scaled first
+    a, b = 1.7e308, 1.6e308
+    inv = A.safe_inv(np.array([[[a, b], [b, a]]]))[0]
+    det = (a / 1e308) ** 2 - (b / 1e308) ** 2
+    np.testing.assert_allclose(inv, np.array([[a, -b], [-b, a]]) / 1e308 / det / 1e308, rtol=1e-12)
+
+
 def test_eigen_summary_values_and_condition():
     s = A.eigen_summary(np.diag([3.0, 1.0, 2.0])[None])
     assert s["min"][0] == 1.0 and s["max"][0] == 3.0 and s["condition"][0] == pytest.approx(3.0)
@@ -127,10 +135,35 @@ def test_isotropic_pattern_to_one_part_in_1e9():
     d = c.copy()
     d[0, 0, 3] = d[0, 3, 0] = 1e-6
     assert not A.is_isotropic(d)[0]
+    # the tolerance is relative also for small numbers (a stiffness written in a large unit, e.g. 7e-6)
+    small = c * 1e-6
+    assert A.is_isotropic(small)[0]
+    d = small.copy()
+    d[0, 3, 3] *= 1 + 3e-9
+    assert not A.is_isotropic(d)[0]
     assert A.is_isotropic(np.zeros((1, 6, 6)))[0]       # no stiffness at all still has the pattern (0 = 0)
     assert not A.is_isotropic(np.full((1, 6, 6), np.nan))[0]
 
 
 def test_conductivity_of_an_orthotropic_row():
-    k = A.conductivity_matrix("ortho", [10.0, 20.0, 30.0])[0]
-    np.testing.assert_array_equal(k, np.diag([10.0, 20.0, 30.0]))
+    k = A.conductivity_matrix("ortho", [10.0, 20.0, 30.0])
+    assert k.shape == (1, 3, 3)
+    np.testing.assert_array_equal(k[0], np.diag([10.0, 20.0, 30.0]))
+    assert A.conductivity_matrix("aniso", [[1.0] * 6, [2.0] * 6]).shape == (2, 3, 3)
+
+
+def test_one_matrix_per_row():
+    assert A.lamina_shear([181.0, 10.3, 0.28, 7.17, 5.0, 4.0]).shape == (1, 2, 2)
+    assert A.compliance_engineering(DISTINCT).shape == (1, 6, 6)
+    assert A.lamina_q([DISTINCT[:6], DISTINCT[:6]]).shape == (2, 3, 3)
+
+
+def test_tolerances_are_inclusive():
+    # isotropic pattern (lambda = 0, mu = 0.5: D1111 = 1) with a coupling term of exactly 1e-9 times the
+    # largest term: still the pattern (the test is "<= rtol * largest")
+    c = A.stiffness_ortho([1.0, 0.0, 1.0, 0.0, 0.0, 1.0, 0.5, 0.5, 0.5])
+    c[0, 0, 3] = c[0, 3, 0] = 1e-9
+    assert A.is_isotropic(c)[0]
+    # an eigenvalue of exactly 1e-12 times the largest is zero to round-off
+    s = A.eigen_summary(np.diag([1.0, 1e-12])[None])
+    assert s["min"][0] == 0.0 and not s["positive_definite"][0]

@@ -130,7 +130,7 @@ def test_unknown_topologies_take_every_pair_of_nodes():
     pyr = np.array([[0, 0, 0], [2, 0, 0], [2, 2, 0], [0, 2, 0], [1, 1, 0.3]])
     ids = np.arange(1, 6)
     assert M.min_edge_lengths(ids[None, :], ids, pyr, "C3D5")[0] == pytest.approx(np.sqrt(2 + 0.09))
-    beam = np.array([[0, 0, 0], [0.25, 0, 0], [1, 0, 0.0]])
+    beam = np.array([[0, 0, 0], [0.75, 0, 0], [1, 0, 0.0]])       # end, middle, end (CalculiX B32)
     assert M.min_edge_lengths(np.array([[1, 2, 3]]), ids[:3], beam, "B32")[0] == pytest.approx(0.25)
     assert M.edge_pairs("XYZ4", 4) == ((0, 1), (0, 2), (0, 3), (1, 2), (1, 3), (2, 3))
 
@@ -183,6 +183,8 @@ def test_missing_nodes_degenerate_and_empty_elements():
     for chunk in (1, 0, 2):
         assert M.smallest_edge(conn, ids, coords, "B31", chunk=chunk) == pytest.approx(0.5), chunk
     assert M.smallest_edge(conn, ids, coords, "B31", mask=np.array([False, True, True])) == pytest.approx(2.5)
+    # more elements than nodes per element, the smallest last, one element at a time
+    assert M.smallest_edge(conn[::-1], ids, coords, "B31", chunk=1) == pytest.approx(0.5)
     # one model with a single node: an element that names a second, undefined node has no length
     one = M.min_edge_lengths(np.array([[1, 99]]), np.array([1]), np.zeros((1, 3)), "B31")
     assert one.shape == (1,) and np.isnan(one[0])

@@ -61,6 +61,8 @@ def test_bar_speed_is_nan_without_positive_modulus_and_density():
     got = U.bar_speed([210e9, 0.0, -1.0, 210e9, 210e9], [7850, 7850, 7850, 0.0, -1.0])
     assert got[0] == pytest.approx(5172, rel=1e-3)
     assert np.isnan(got[1:]).all()
+    # the same steel in mm-t-s (E 210000 MPa, rho 7.85e-9 t/mm^3): 5.172e6 mm/s, a density below 1 is fine
+    assert float(U.bar_speed(210000.0, 7.85e-9)) == pytest.approx(5.172e6, rel=1e-3)
 
 
 def test_p_wave_modulus_across_the_admissible_range():
@@ -94,3 +96,22 @@ def test_temperature_scale_of_an_absolute_zero_within_half_a_degree():
     assert U.temperature_scale_of(-274.0) is None
     for bad in (None, math.nan, math.inf):
         assert U.temperature_scale_of(bad) is None
+
+
+#: each quantity's SI unit as pint spells it (named units, independent of the exponent table)
+SI_UNIT = {
+    "length": "m", "mass": "kg", "time": "s", "temperature": "K", "force": "N", "stress": "Pa",
+    "compliance": "1/Pa", "density": "kg/m**3", "acceleration": "m/s**2", "speed": "m/s",
+    "conductivity": "W/(m*K)", "specific_heat": "J/(kg*K)", "expansion": "1/K", "diffusivity": "m**2/s",
+    "volumetric_heat_capacity": "J/(m**3*K)", "film_coefficient": "W/(m**2*K)", "energy": "J",
+    "specific_stiffness": "Pa/(kg/m**3)",
+}
+
+
+@pytest.mark.parametrize("quantity", sorted(SI_UNIT))
+def test_dimension_exponents_match_the_named_si_unit(quantity):
+    # reference: pint's dimensionality of the named SI unit (W, J, Pa, N ... resolved by pint)
+    dim = UREG(SI_UNIT[quantity]).dimensionality
+    want = tuple(int(dim.get(k, 0)) for k in ("[length]", "[mass]", "[time]", "[temperature]"))
+    assert U.DIMENSIONS[quantity] == want
+    assert set(U.DIMENSIONS) == set(SI_UNIT)
