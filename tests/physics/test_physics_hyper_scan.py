@@ -73,3 +73,20 @@ def test_onsets_are_refined_far_below_the_grid_spacing():
     # C01/l), see test_physics_hyper.py); a 5-point grid over 1-10 is refined to near float precision
     got = HS.scan_mode(MR_NEG, "UT", (1.0, 10.0), 5)["unstable"]
     assert got[0][0] == pytest.approx(np.sqrt(10.0), rel=1e-9) and got[0][1] == 10.0
+
+
+def test_default_range_and_points_are_those_of_the_data_file():
+    # one fact in one place: the scan's defaults are hyper.stretch_range and hyper.stretch_points of
+    # linter/data/thresholds.yaml, and a scan with them covers that range end to end in every mode
+    from linter.config import default_thresholds
+
+    t = default_thresholds()["hyper"]
+    lo, hi = (float(x) for x in t["stretch_range"])
+    for model in (YEOH, MR_NEG):
+        res = HS.scan(model)
+        for mode in HS.MODES:
+            ivs = sorted(res[mode]["stable"] + res[mode]["unstable"])
+            assert ivs[0][0] == lo and ivs[-1][1] == hi
+            assert res[mode] == HS.scan_mode(model, mode, (lo, hi), int(t["stretch_points"]))
+        one = HS.scan_mode(model, "UT")
+        assert one == HS.scan_mode(model, "UT", (lo, hi), int(t["stretch_points"]))
