@@ -241,3 +241,19 @@ def test_analytic_hessian_matches_finite_differences(l1, l2, k):
 def test_loss_in_working_range():
     assert HS.loss_in([(0.05, 0.52), (1.48, 20.0)], (0.5, 2.0)) == [(0.5, 0.52), (1.48, 2.0)]
     assert HS.loss_in([(3.2, 20.0)], (0.5, 2.0)) == []
+
+
+@pytest.mark.parametrize("k", range(len(MODELS)))
+@pytest.mark.parametrize("l1, l2", [(0.6, 1.7), (1.9, 0.8), (1.3, 1.3)])
+def test_analytic_gradient_matches_finite_differences(k, l1, l2):
+    # both components of dg/de of g(e1, e2) = W(exp e1, exp e2, exp(-e1 - e2)) against central differences of the
+    # energy (h = 1e-6, error ~ h^2 W''' / 6; common practice in numerical differentiation)
+    model, h = MODELS[k], 1e-6
+    e1, e2 = np.log(l1), np.log(l2)
+
+    def g(a, b):
+        return float(HS.energy(model, np.exp(a), np.exp(b), np.exp(-a - b)))
+
+    fd = np.array([(g(e1 + h, e2) - g(e1 - h, e2)) / (2 * h), (g(e1, e2 + h) - g(e1, e2 - h)) / (2 * h)])
+    got, _h = HS.gradient_hessian(model, np.array([l1]), np.array([l2]))
+    assert got[0] == pytest.approx(fd, rel=1e-6, abs=1e-7)
