@@ -235,7 +235,7 @@ def _resolve(sups: list[Suppression], model) -> None:
 
 
 def _covers(s: Suppression, f) -> bool:
-    if not any(r == f.rule or r == f.rule.split("/", 1)[0] for r in s.rules):
+    if not any(_names(r, f.rule) for r in s.rules):
         return False
     if s.scope == "file":
         return f.path == s.path
@@ -297,16 +297,8 @@ def apply(model, findings: list, prefixes: tuple[str, ...], deferred: Optional[l
                                  message=f"suppression comment: {text}",
                                  data={"rules": list(s.rules), "problem": text}))
     live = [s for s in sups if s.rules and (s.scope != "next" or s.target is not None)]
-    for f in findings:
-        if f.suppression is not None or any(f.rule == n or f.rule.startswith(n + "/") for n in NEVER):
-            continue
-        if registry.makes_incomplete([f]):
-            continue
-        for s in live:
-            if _covers(s, f):
-                f.suppression = s.describe()
-                s.used += 1
-                break
+    _mark([f for f in findings if not any(f.rule == n or f.rule.startswith(n + "/") for n in NEVER)
+           and not registry.makes_incomplete([f])], live)
     run_level = {r.id for r in rules.values() if r.run_level}
     for s in sups:
         if deferred is not None and s.rules and any(_names(r, rid) for r in s.rules for rid in run_level):
@@ -315,6 +307,18 @@ def apply(model, findings: list, prefixes: tuple[str, ...], deferred: Optional[l
         if s.rules and not s.used:
             extra.append(_unused(s))
     return extra
+
+
+def _mark(findings: list, sups: list[Suppression]) -> None:
+    """Give each finding not yet accepted the first comment that covers it, and count the comment's use."""
+    for f in findings:
+        if f.suppression is not None:
+            continue
+        for s in sups:
+            if _covers(s, f):
+                f.suppression = s.describe()
+                s.used += 1
+                break
 
 
 def _names(entry: str, rule_id: str) -> bool:
@@ -340,14 +344,7 @@ def settle_run_level(result, config) -> None:
         if not sups:
             continue
         added = []
-        for f in fr.findings:
-            if f.suppression is not None:
-                continue
-            for s in sups:
-                if _covers(s, f):
-                    f.suppression = s.describe()
-                    s.used += 1
-                    break
+        _mark(fr.findings, sups)
         for s in sups:
             if not s.used and config.rule_enabled(UNUSED_RULE):
                 added.append(_unused(s))

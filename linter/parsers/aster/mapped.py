@@ -10,6 +10,7 @@ from __future__ import annotations
 import mmap
 import os
 
+from ..buffers import release as drop  # noqa: F401 (the readers of this package call it drop)
 from ..sources import SourceError, looks_binary, read_deck_bytes
 
 MAP_ABOVE = 16 << 20
@@ -35,18 +36,6 @@ def open_mesh(path: str, max_size: int):
         mm.close()
         return read_deck_bytes(path, max_size).data     # decoding or line-end normalisation needed
     return mm
-
-
-def drop(data, a: int, b: int) -> None:
-    """Give the pages of data[a:b] back (mapped files only; a no-op for bytes)."""
-    if isinstance(data, mmap.mmap) and b > a:
-        a0 = a - a % mmap.PAGESIZE
-        b0 = min(len(data), b)
-        if b0 > a0:
-            try:
-                data.madvise(_DONTNEED, a0, b0 - a0)
-            except (OSError, ValueError):
-                pass
 
 
 def find(data, sub: bytes, a: int, b: int) -> int:
