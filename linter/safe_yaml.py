@@ -90,5 +90,11 @@ def compose_yaml_text(text: str, what: str = "YAML document"):
 
 
 def scalar_value(node):
-    """The Python value of a scalar node, as the safe loader constructs it (int, float, bool, None, str)."""
-    return _NoAliasLoader("").construct_object(node)
+    """The Python value of a scalar node, as the safe loader constructs it (int, float, bool, None, str).
+
+    A plain scalar the safe loader resolves to a tag it has no constructor for (``=``, the YAML 1.1
+    "value" key) is its text."""
+    try:
+        return _NoAliasLoader("").construct_object(node)
+    except yaml.constructor.ConstructorError:
+        return str(node.value) if isinstance(node, yaml.ScalarNode) else None

@@ -21,7 +21,7 @@ from collections import Counter
 from pathlib import Path
 
 import pytest
-from hypothesis import HealthCheck, given, settings
+from hypothesis import HealthCheck, example, given, settings
 from hypothesis import strategies as st
 
 from linter import parsers
@@ -269,6 +269,7 @@ def mutate(data: bytes, muts) -> bytes:
 @pytest.mark.parametrize("fmt", FORMATS)
 @settings(max_examples=200, **SETTINGS)
 @given(data=st.binary(max_size=3000))
+@example(data=b"=")          # a YAML scalar of a tag the safe loader cannot construct (once an internal error)
 def test_arbitrary_bytes(fmt, data):
     CASES[f"bytes:{fmt}"] += 1
     check_bytes(data, fmt)
