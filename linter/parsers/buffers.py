@@ -29,8 +29,11 @@ def is_mapped(data) -> bool:
     return isinstance(data, mmap.mmap)
 
 
-def open_text(path: str, max_size: int, checked: bool = True) -> Source:
+def open_text(path: str, max_size: int, checked: bool = True, keep: bool = False) -> Source:
     """The file as :class:`Source`; ``data`` is a read-only ``mmap`` for a large plain file, else bytes.
+
+    ``keep``: the pages the check walked stay mapped (for a caller that walks the whole text next and
+    keeps it, as the bulk reader does; giving them back would only make it fault them in again).
 
     ``checked=False``: only the head and the last byte of a large file are looked at before it is mapped;
     the caller checks the rest (ASCII, no CR) in its own first pass and reads the file with
@@ -43,13 +46,13 @@ def open_text(path: str, max_size: int, checked: bool = True) -> Source:
             mm = mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ)
     except (OSError, ValueError):
         return read_deck_bytes(path, max_size)
-    if not _plain(mm, checked):
+    if not _plain(mm, checked, not keep):
         mm.close()
         return read_deck_bytes(path, max_size)          # decoding or line-end normalisation needed
     return Source(path=path, data=mm, encoding="utf-8", line_ends="lf")
 
 
-def _plain(mm: mmap.mmap, whole: bool = True) -> bool:
+def _plain(mm: mmap.mmap, whole: bool = True, give_back: bool = True) -> bool:
     """ASCII text with ``\\n`` line ends and a final line end (what ``read_deck_bytes`` would leave as is);
     not ``whole``: the head and the last byte only."""
     n = len(mm)
@@ -64,7 +67,8 @@ def _plain(mm: mmap.mmap, whole: bool = True) -> bool:
         for lo in range(0, n, WINDOW):
             hi = min(n, lo + WINDOW)
             bad = mm.find(b"\r", lo, hi) >= 0 or int(arr[lo:hi].max()) >= 128
-            release(mm, lo, hi)
+            if give_back:
+                release(mm, lo, hi)
             if bad:
                 return False
     finally:

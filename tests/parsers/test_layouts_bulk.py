@@ -14,7 +14,7 @@ import numpy as np
 import pytest
 from benchload import load
 
-from linter.parsers import ParseOptions, sources
+from linter.parsers import ParseOptions, buffers, sources
 from linter.parsers.bulk import lines as bl
 from linter.parsers.bulk import parser as B
 
@@ -46,6 +46,8 @@ def read(path, how: str, monkeypatch):
             mp.setattr(bl, "BLOCK", 4096)
             mp.setattr(bl, "SMALL", 512)
             mp.setattr(sources, "READ_BLOCK", 37)   # TABs replaced while reading: block edges everywhere
+        elif how == "mapped":            # every file memory-mapped, as decks above 16 MB are
+            mp.setattr(buffers, "MAP_ABOVE", 0)
         elif how == "cards":             # no run block, no column-wise line table: one Card per entry
             mp.setattr(B, "accept_run", lambda *a: None)
             mp.setattr(B, "read_fast", lambda st, name, lines, idx, heads, nl, large, display: np.arange(heads.size))
@@ -80,6 +82,7 @@ def test_every_bulk_layout_reads_like_the_card_reader(write_deck, monkeypatch, s
     np.testing.assert_allclose(m.geometry.bbox_max, coords.max(axis=0))
     same(normal, read(p, "cards", monkeypatch))
     same(normal, read(p, "small-blocks", monkeypatch))
+    same(normal, read(p, "mapped", monkeypatch))
 
 
 @pytest.mark.parametrize("style", L.MESHIO_BULK)
@@ -103,6 +106,7 @@ def test_corpus_decks_read_the_same_with_small_run_blocks(corpus_dir, monkeypatc
     for path in files:
         same(read(path, "normal", monkeypatch), read(path, "cards", monkeypatch))
         same(read(path, "normal", monkeypatch), read(path, "small-blocks", monkeypatch))
+        same(read(path, "normal", monkeypatch), read(path, "mapped", monkeypatch))
 
 
 def test_coordinate_system_on_grids_of_fixed_field_runs(write_deck, monkeypatch):

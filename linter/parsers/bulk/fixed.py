@@ -190,9 +190,13 @@ def grid_cols(data: bytes, run, sample: tuple = ()) -> dict:
 # --------------------------------------------------------------------------- elements
 
 
-def _ints(buf: np.ndarray, s: np.ndarray, e: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def _ints(buf: np.ndarray, s: np.ndarray, e: np.ndarray, values: bool = True
+          ) -> tuple[Optional[np.ndarray], np.ndarray, np.ndarray]:
     """Integers of fields buf[s:e] (1-d): (values, blank, bad) as ``fields.vec_int`` gives them,
-    with the field bytes taken as one or two 8-byte words per field (no per-byte index)."""
+    with the field bytes taken as one or two 8-byte words per field (no per-byte index).
+
+    Fields that are all the same bytes (a block's PIDs, often) are read once. ``values=False``: only
+    (None, blank, bad) are wanted; fields of blanks and digits alone are judged without reading them."""
     n = s.size
     w = e - s
     if n == 0 or w.max() > 16:
@@ -205,27 +209,40 @@ def _ints(buf: np.ndarray, s: np.ndarray, e: np.ndarray) -> tuple[np.ndarray, np
         m[:, 1] = u[np.minimum(s + 8, u.size - 1)]
     m = m.view(np.uint8).reshape(n, 8 * words)
     m[np.arange(8 * words)[None, :] >= w[:, None]] = SPACE
+    if not values:
+        digit = (m - np.uint8(48)) <= 9
+        ok = digit | (m == SPACE)
+        # one run of digits: a digit whose left neighbour is not a digit starts a run
+        runs = digit[:, 0].astype(np.int8) + (digit[:, 1:] & ~digit[:, :-1]).sum(axis=1, dtype=np.int8)
+        if ok.all() and (runs <= 1).all():
+            return None, runs == 0, np.zeros(n, dtype=bool)
+    same = n > 1 and bool((m == m[:1]).all())
     blank = (m == SPACE).all(axis=1)
     m[blank, 0] = 48
     try:
-        vals = m.view(f"S{8 * words}").ravel().astype(np.int64)
+        cells = m[:1] if same else m
+        vals = cells.view(f"S{8 * words}").ravel().astype(np.int64)
     except (ValueError, OverflowError):
         return vec_int(buf, s, e)
+    if same:
+        vals = np.full(n, vals[0], dtype=np.int64)
     vals[blank] = 0
     return vals, blank, np.zeros(n, dtype=bool)
 
 
-def _keys(elements: dict, name: str, data: bytes, lay: Layout) -> Optional[tuple]:
-    """(eid, key = pid * 4 + type code) of every entry; None when an id is blank or not an integer."""
+def _keys(elements: dict, name: str, data: bytes, lay: Layout, ids: bool = True) -> Optional[tuple]:
+    """(eid, key = pid * 4 + type code) of every entry; None when an id is blank or not an integer.
+    ``ids=False``: the element ids are only checked, and read only when a PID is blank (eid is then None)."""
     maxn, types = elements[name]
     buf = np.frombuffer(data, np.uint8)
     S, E = lay.cols((0, 1))
-    eid, eblank, ebad = _ints(buf, S[:, 0], E[:, 0])
     pid, pblank, pbad = _ints(buf, S[:, 1], E[:, 1])
+    eid, eblank, ebad = _ints(buf, S[:, 0], E[:, 0], values=ids or bool(pblank.any()))
     if eblank.any() or ebad.any() or pbad.any():
         return None                    # reported by the line-table reader
-    pid = np.where(pblank, eid, pid)   # blank PID defaults to the EID (MYSTRAN element tables)
-    tcode = np.zeros(eid.size, dtype=np.int64)
+    if eid is not None:
+        pid = np.where(pblank, eid, pid)   # blank PID defaults to the EID (MYSTRAN element tables)
+    tcode = np.zeros(pid.size, dtype=np.int64)
     if len(types) > 1:                 # the type follows the number of non-blank node fields
         need = np.flatnonzero(lay.present() - 2 > types[0][0])
         if need.size:
@@ -241,7 +258,7 @@ def _keys(elements: dict, name: str, data: bytes, lay: Layout) -> Optional[tuple
 def element_summary(elements: dict, name: str, data: bytes, run) -> Optional[dict]:
     """{key = pid * 4 + type code: (count, 1-based line of the first entry)} of a fixed-field element block."""
     lay = layout(data, run)
-    got = None if lay is None else _keys(elements, name, data, lay)
+    got = None if lay is None else _keys(elements, name, data, lay, ids=False)
     if got is None:
         return None
     run.count = int(lay.hl.size)

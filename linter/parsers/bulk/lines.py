@@ -14,6 +14,7 @@ from typing import Callable, Optional
 
 import numpy as np
 
+from .. import buffers
 from .fields import PAD, gather
 
 COMMA, SPACE, STAR, PLUS, DOLLAR, NEWLINE = 44, 32, 42, 43, 36, 10
@@ -45,17 +46,17 @@ def line_table(data: bytes, pieces: Optional[list] = None) -> Lines:
         first = np.searchsorted(lines.ls, starts)
         lines.no = np.asarray([l0 for _a, _b, l0 in pieces], dtype=np.int64)[k] + (np.arange(lines.ls.size) - first[k])
         return lines
-    padded = data + b" " * PAD
+    padded = bytes(data) + b" " * PAD if buffers.is_mapped(data) else data + b" " * PAD
     buf = np.frombuffer(padded, dtype=np.uint8)
     nl = np.flatnonzero(buf == 10)
     ls = np.concatenate(([0], nl + 1)).astype(np.int64)
     le = np.concatenate((nl, [len(data)])).astype(np.int64)
-    nd = data.count(b"$")
+    nd = padded.count(b"$")
     if nd < 20000:   # few comments: find them at C speed instead of a pass over the whole buffer
-        pos, at = [], data.find(b"$")
+        pos, at = [], padded.find(b"$")
         while at >= 0:
             pos.append(at)
-            at = data.find(b"$", at + 1)
+            at = padded.find(b"$", at + 1)
         dollars = np.asarray(pos, dtype=np.int64)
     else:
         dollars = np.flatnonzero(buf == DOLLAR)
@@ -196,7 +197,7 @@ class Run:
     count: int = 0      # entries (set by the summary; 0: one per line)
 
 
-def carve(data: bytes, lo: int, line0: int, accept: Callable) -> tuple[list, list]:
+def carve(data: bytes, lo: int, line0: int, accept: Callable, absent: bytes = b"") -> tuple[list, list]:
     """Split data[lo:] into runs of one mesh card (blocks of up to ~BLOCK bytes) and generic pieces.
 
     A run holds no ``$ * \\r``, tab nor blank (a block is cut before the first line that has
@@ -206,7 +207,9 @@ def carve(data: bytes, lo: int, line0: int, accept: Callable) -> tuple[list, lis
     another entry. Where no run fits, SMALL bytes go to the generic pieces. Everything after a
     generic piece that mentions ENDDATA, and the last PAD bytes of the file, stay generic.
     Returns (pieces, runs); pieces are (start, end, first line index) and cover all but the runs.
+    ``absent``: bytes the caller knows the file does not hold (their searches are skipped).
     """
+    absent = tuple(absent[i:i + 1] for i in range(len(absent)))
     n = len(data)
     pieces: list = []
     runs: list = []
@@ -216,7 +219,7 @@ def carve(data: bytes, lo: int, line0: int, accept: Callable) -> tuple[list, lis
         q = _boundary(data, p + BLOCK, limit)
         if q < 0:
             q = _boundary_before(data, p, limit)
-        run = _run(data, p, q, line, accept) if q > p else None
+        run = _run(data, p, q, line, accept, absent) if q > p else None
         if run is not None:
             if gen < p:
                 pieces.append((gen, p, gen_line))
@@ -229,7 +232,7 @@ def carve(data: bytes, lo: int, line0: int, accept: Callable) -> tuple[list, lis
             g = q
         if g <= p or _ENDDATA.search(data, p, g):
             break
-        line += data.count(b"\n", p, g)
+        line += buffers.count(data, b"\n", p, g)
         p = g
     pieces.append((gen, n, gen_line))
     return pieces, runs
@@ -251,7 +254,7 @@ def _boundary_before(data: bytes, p: int, limit: int) -> int:
     return r + 1 if r >= p else -1
 
 
-def _run(data: bytes, p: int, q: int, line: int, accept: Callable) -> "Run | None":
+def _run(data: bytes, p: int, q: int, line: int, accept: Callable, absent: tuple = ()) -> "Run | None":
     head = data[p:p + 9]
     c = head.find(b",")
     fixed = c < 0
@@ -260,6 +263,8 @@ def _run(data: bytes, p: int, q: int, line: int, accept: Callable) -> "Run | Non
         return None
     end = q
     for ch in ((b",", b"$", b"\r", b"\t") if fixed else (b"$", b"*", b"\r", b" ", b"\t")):
+        if ch in absent:
+            continue
         f = data.find(ch, p, end)
         if f >= 0:                              # end before the entry that holds it
             end = data.rfind(b"\n", p, f) + 1

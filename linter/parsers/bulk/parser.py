@@ -25,6 +25,7 @@ import numpy as np
 from ..includes import IncludeTracker
 from ...model import DeckModel, ElementBlock, ElementSet, Include, Issue, Lazy, Load, Loc, MassSource
 from . import DEFAULT_DIALECT, FORMAT
+from .. import buffers
 from ..sources import SourceError, read_deck_bytes, text
 from . import case as bc
 from .cards import OTHER_MATS, PROPERTY_CARDS, SLOW_CARDS, THERMAL_MATS, Builder, Card, tables_of
@@ -82,7 +83,7 @@ def parse(path: str, options) -> DeckModel:
     display = getattr(options, "display_path", None) or path
     model = DeckModel(path=display, format=FORMAT, dialect=getattr(options, "dialect", None) or DEFAULT_DIALECT)
     st = _State(model, IncludeTracker(options.include), options)
-    src = read_deck_bytes(path, options.max_file_size)   # SourceError for an unreadable top file
+    src = buffers.open_text(path, options.max_file_size, keep=True)   # SourceError for an unreadable top file
     data = src.data
     mode = "exec"
     if not re.search(rb"(?m)^[ \t]*[^$\s]", data):
@@ -90,10 +91,9 @@ def parse(path: str, options) -> DeckModel:
         model.files.append(display)
         return model
     if not _BEGIN.search(data) and not re.search(rb"(?im)^[ \t]*CEND", data):
-        mode = "bulk"
-        if data.strip():
-            model.issues.append(Issue("no-bulk-section", "no BEGIN BULK (and no executive/case control): the file is "
-                                      "read as bulk data; solvers need BEGIN BULK ... ENDDATA", Loc(display, 1)))
+        mode = "bulk"     # (the search above found a non-blank byte)
+        model.issues.append(Issue("no-bulk-section", "no BEGIN BULK (and no executive/case control): the file is "
+                                  "read as bulk data; solvers need BEGIN BULK ... ENDDATA", Loc(display, 1)))
     del data
     _scan(st, path, display, src, mode)
     nlines = max(1, st.nlines or 0)
@@ -150,7 +150,9 @@ def _scan(st: _State, path: str, display: str, src, mode: str) -> None:
         lo_byte = e + 1 if e >= 0 else len(raw)
     runs: list = []
     if mode == "bulk" or begin is not None:
-        pieces, runs = carve(raw, lo_byte, raw.count(b"\n", 0, lo_byte), lambda *a: accept_run(ELEMENTS, *a))
+        # no TAB is left (_without_tabs) and no CR (line ends are normalised, or a mapped file has none)
+        pieces, runs = carve(raw, lo_byte, buffers.count(raw, b"\n", 0, lo_byte),
+                             lambda *a: accept_run(ELEMENTS, *a), absent=b"\r\t")
     if runs:
         for r in runs:
             st.runs.setdefault(r.name, []).append((raw, r, display))
@@ -181,7 +183,7 @@ def _without_tabs(path: str, src, max_size: int) -> bytes:
     (``read_deck_bytes(tabs_to=)``), so that it is never held twice. A file that can no longer be read, or
     changed size in between, is a ``SourceError``."""
     data = src.data
-    if b"\t" not in data:
+    if data.find(b"\t") < 0:
         return data
     size = len(data)
     src.data = data = b""
@@ -237,7 +239,7 @@ def _include(st: _State, written: str, line: int, display: str, path: str, mode:
                                   data={"include": written}))
         return
     try:
-        src = read_deck_bytes(res.path, st.options.max_file_size)
+        src = buffers.open_text(res.path, st.options.max_file_size, keep=True)
     except SourceError as exc:
         model.issues.append(Issue("include-unreadable", f"included file '{written}': {exc.message}", loc,
                                   data={"include": written}))
