@@ -20,7 +20,7 @@ from typing import Optional
 
 import numpy as np
 
-from .fields import vec_int, vec_real
+from .fields import PAD, vec_int, vec_real
 
 NEWLINE, SPACE, STAR, PLUS = 10, 32, 42, 43
 FORBIDDEN = (b",", b"$", b"\r", b"\t")
@@ -187,6 +187,34 @@ def grid_cols(data: bytes, run, sample: tuple = ()) -> dict:
             "line": run.line + 1 + lay.hl[sel]}
 
 
+def grid_sample(data: bytes, run, want: int, pieces: int):
+    """A small copy of about ``want`` whole GRID entries of a fixed-field run block, as its own run: the
+    first entry, then ``pieces`` runs of consecutive entries spread evenly over the block (cut before head
+    lines, so that no entry loses a continuation line); None when the block is too small to sample.
+    Only the sampled bytes are split into lines. Their line numbers are not known: never reported."""
+    span, n = run.end - run.start, max(1, run.count or run.nlines)
+    pieces = max(1, min(pieces, want))
+    piece_bytes = max(256, int(span / n * max(1, want // pieces)))
+    if want >= n or pieces * piece_bytes >= span:
+        return None
+    head = b"\n" + run.name.encode()
+    first = data.find(head, run.start, run.end)
+    parts = [data[run.start:first + 1]] if first >= 0 else []
+    for k in range(pieces):
+        pos = run.start + ((span - piece_bytes) * k) // max(1, pieces - 1)
+        a = data.find(head, max(pos, first), run.end)
+        if a < 0:
+            break
+        b = data.rfind(head, a + 1, min(run.end, a + 1 + piece_bytes))
+        if b > a:
+            parts.append(data[a + 1:b + 1])
+    chunk = b"".join(parts)
+    if not chunk:
+        return None
+    srun = type(run)(run.name, 0, len(chunk), run.line, 0, kind="fixed")
+    return chunk + b" " * PAD, srun
+
+
 # --------------------------------------------------------------------------- elements
 
 
@@ -208,7 +236,8 @@ def _ints(buf: np.ndarray, s: np.ndarray, e: np.ndarray, values: bool = True
     if words == 2:
         m[:, 1] = u[np.minimum(s + 8, u.size - 1)]
     m = m.view(np.uint8).reshape(n, 8 * words)
-    m[np.arange(8 * words)[None, :] >= w[:, None]] = SPACE
+    if not bool((w == 8 * words).all()):      # blanks past the field's end (most fields fill the words)
+        m[np.arange(8 * words)[None, :] >= w[:, None]] = SPACE
     if not values:
         digit = (m - np.uint8(48)) <= 9
         ok = digit | (m == SPACE)
@@ -216,7 +245,8 @@ def _ints(buf: np.ndarray, s: np.ndarray, e: np.ndarray, values: bool = True
         runs = digit[:, 0].astype(np.int8) + (digit[:, 1:] & ~digit[:, :-1]).sum(axis=1, dtype=np.int8)
         if ok.all() and (runs <= 1).all():
             return None, runs == 0, np.zeros(n, dtype=bool)
-    same = n > 1 and bool((m == m[:1]).all())
+    wide = m.view(np.uint64)                  # (n, words): one compare per word, not per byte
+    same = n > 1 and bool((wide == wide[:1]).all())
     blank = (m == SPACE).all(axis=1)
     m[blank, 0] = 48
     try:

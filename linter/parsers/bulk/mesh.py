@@ -284,7 +284,8 @@ def _grid_run_part(st, data, run, path, sample: tuple = (), report: bool = True)
     """GRID columns of a run block, or of a sample (want, pieces) of its lines (``sampling``)."""
     if run.kind == "fixed":
         part = _Part(None, None, False, path)
-        part.cols = bf.grid_cols(data, run, sample)
+        got = bf.grid_sample(data, run, *sample) if sample else None
+        part.cols = bf.grid_cols(data, run, sample) if got is None else bf.grid_cols(*got)
         return part
     if sample:
         chunk, srun = br.grid_sample(data, run, *sample)
