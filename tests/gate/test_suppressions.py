@@ -248,3 +248,33 @@ def test_keyword_deck_scanned_from_the_text_the_parser_read(tmp_path, monkeypatc
         _, found = check(p)
         (f,) = by_rule(found, POISSON)
         assert f.suppression is not None and f.suppression["line"] == 9, name   # line 9 counted by hand
+
+
+def test_mapped_bulk_deck_scanned_from_the_text_the_parser_read(tmp_path, monkeypatch):
+    """A bulk deck above the mapping size keeps its mapped text, and the places a marker can be (not the
+    GRID/element run blocks, which hold no ``$``): the scan does not open the deck again and gives the
+    lines the unmapped scan gives (counted by hand: with 40 more GRID lines the comment is line 52 and the
+    second MAT1, with its trailing comment, line 54)."""
+    from linter import suppressions
+    from linter.parsers import buffers
+    from linter.parsers.bulk import lines as bl
+
+    grids = "".join(f"GRID,{i},,{i}.,0.,0.\n" for i in range(5, 45))
+    text = BULK.format(c1="$ deckwarden accept elastic/poisson-out-of-range because under review\n",
+                       c2=" $ deckwarden accept elastic").replace("GRID,4,,0.,0.,1.\n", "GRID,4,,0.,0.,1.\n" + grids)
+    p = tmp_path / "pv40_mapped.bdf"
+    p.write_text(text)
+    monkeypatch.setattr(bl, "BLOCK", 256)
+    monkeypatch.setattr(bl, "SMALL", 64)
+    _, plain = check(p)
+    monkeypatch.setattr(buffers, "MAP_ABOVE", 0)
+
+    def no_reread(path, prefixes):
+        raise AssertionError(f"{path} read again")
+
+    monkeypatch.setattr(suppressions, "scan_file", no_reread)
+    _, mapped = check(p)
+    for found in (plain, mapped):
+        sup = {f.material: f.suppression for f in by_rule(found, POISSON)}
+        assert sup["1"]["line"] == 52 and sup["1"]["reason"] == "under review"
+        assert sup["2"]["line"] == 54 and sup["2"]["scope"] == "next"

@@ -23,6 +23,7 @@ from typing import Optional
 import numpy as np
 
 from ..includes import IncludeTracker
+from ...suppressions import MARK_BYTES
 from ...model import DeckModel, ElementBlock, ElementSet, Include, Issue, Lazy, Load, Loc, MassSource
 from . import DEFAULT_DIALECT, FORMAT
 from .. import buffers
@@ -156,7 +157,10 @@ def _scan(st: _State, path: str, display: str, src, mode: str) -> None:
     if runs:
         for r in runs:
             st.runs.setdefault(r.name, []).append((raw, r, display))
-        lines = line_table(raw, ([(0, lo_byte, 0)] if lo_byte else []) + pieces)
+        generic = ([(0, lo_byte, 0)] if lo_byte else []) + pieces
+        if buffers.is_mapped(raw):
+            _keep_text(model, display, raw, generic)
+        lines = line_table(raw, generic)
     else:
         lines = line_table(raw)
     del raw
@@ -175,6 +179,18 @@ def _scan(st: _State, path: str, display: str, src, mode: str) -> None:
         st.saw_bulk, lo = True, end_exec + 1
     _bulk_lines(st, lines, data, lo, n, display, path)
     st.tracker.stack.pop()
+
+
+def _keep_text(model: DeckModel, display: str, raw, generic: list) -> None:
+    """Keep a mapped file's text for the gate's passes (``DeckModel.texts``), with the places a suppression
+    marker can be: a comment needs a ``$``, and run blocks hold none, so only the generic pieces are
+    searched (``extras["mark_bytes"]``); their starts are the line anchors (``extras["line_anchors"]``)."""
+    model.texts[display] = raw
+    marks: list[int] = []
+    for a, b, _line in generic:
+        marks.extend(buffers.find_all(raw, *MARK_BYTES, a=a, b=b))
+    model.extras.setdefault("mark_bytes", {})[display] = sorted(marks)
+    model.extras.setdefault("line_anchors", {})[display] = [(line + 1, a) for a, _b, line in generic]
 
 
 def _without_tabs(path: str, src, max_size: int) -> bytes:
