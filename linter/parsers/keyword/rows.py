@@ -247,15 +247,51 @@ def line_rows(c: bytes, width: int) -> np.ndarray:
     return tab
 
 
+#: a number put at every line end by :func:`plain_int_rows` (any value: it is counted, see there)
+_MARK = -1
+
+
+def plain_int_rows(raw: bytes, width: int) -> Optional[np.ndarray]:
+    """(lines, width) int64 table of raw data lines that each hold exactly ``width`` integers separated
+    by commas (blanks and tabs anywhere, as CalculiX removes them); None for anything else (a line with
+    another field count, a trailing comma, a blank field, a comment or empty line, a number that is not an
+    integer), which :func:`compact` and :func:`line_rows` then read.
+
+    The line ends become a marker number, the whole text is read by numpy's C parser in one call, and
+    the table is exact only if the marker closes every row and appears nowhere else: ``lines`` markers in
+    the last column and ``lines`` in all (a data field equal to the marker gives one more: None)."""
+    flat = raw.translate(None, b" \t\r")
+    if not flat.endswith(b"\n"):
+        flat += b"\n"
+    lines = flat.count(b"\n")
+    if not lines or b"*" in flat:
+        return None
+    flat = flat.replace(b"\n", b",%d," % _MARK)[:-1]
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        try:
+            vals = np.fromstring(flat, dtype=np.int64, sep=",")
+        except ValueError:
+            return None
+    if vals.size != lines * (width + 1):
+        return None
+    tab = vals.reshape(lines, width + 1)
+    if not (tab[:, width] == _MARK).all() or int(np.count_nonzero(vals == _MARK)) != lines:
+        return None
+    return tab[:, :width]
+
+
 def element_tables(data: bytes, start: int, end: int, width: int, size: int = 0, per_line: bool = False
                    ) -> Iterator[tuple[np.ndarray, bool]]:
     """(table piece, last element incomplete) of an ``*ELEMENT`` block, piece by piece.
 
-    ``per_line``: one element per line (the block's layout was found to be so), no grouping."""
+    ``per_line``: one element per line (the block's layout was found to be so), no grouping; lines that
+    all hold the element's fields are read in one numpy call (:func:`plain_int_rows`)."""
     carry = b""
-    for c, last in pieces(data, start, end, size):
+    for c, last in pieces(data, start, end, size, raw=per_line):
         if per_line:
-            yield line_rows(c, width), False
+            tab = plain_int_rows(c, width)
+            yield (line_rows(compact(c), width) if tab is None else tab), False
             continue
         c = carry + c
         tab, n_used, incomplete = table(c, width, final=last)
