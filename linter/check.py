@@ -9,7 +9,7 @@ import os
 import time
 from typing import Any, Optional
 
-from . import parsers, registry
+from . import background, parsers, registry
 from .config import Config
 from .discovery import discover, general_finding, make_policy
 from .findings import FileReport, Finding, RunResult, jsonable, raised_at
@@ -173,7 +173,8 @@ def check_paths(paths: list[str], config: Optional[Config] = None, jobs: Optiona
             except Exception:
                 pass
         ctx = mp.get_context("fork") if "fork" in mp.get_all_start_methods() else None
-        with ProcessPoolExecutor(max_workers=jobs, mp_context=ctx) as pool:
+        # the workers use the processors: no helper process inside them (``linter.background``)
+        with background.allowed(False), ProcessPoolExecutor(max_workers=jobs, mp_context=ctx) as pool:
             def mapper(fn, items):
                 return pool.map(fn, items, chunksize=max(1, len(items) // (jobs * 8)))
 
@@ -182,8 +183,9 @@ def check_paths(paths: list[str], config: Optional[Config] = None, jobs: Optiona
                                                         for p, fmt in decks]), len(decks), progress)
     else:
         decks = _no_deck_check(discover(paths, result, config), result, paths)
-        result.files = _collect((_check_one((p, fmt, config.for_path(p), policy, details)) for p, fmt in decks),
-                                len(decks), progress)
+        with background.allowed(jobs > 1):      # one process: a large deck may use a helper on another core
+            result.files = _collect((_check_one((p, fmt, config.for_path(p), policy, details)) for p, fmt in decks),
+                                    len(decks), progress)
     result.files.sort(key=lambda fr: fr.path)   # the same order whatever --jobs is
     if len(result.files) > 1:
         from .drift import material_drift   # run-level stage: materials compared across decks

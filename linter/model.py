@@ -48,12 +48,14 @@ class Lazy:
     Lazy can also be made from a ready value with ``Lazy.of(value)``.
     """
 
-    __slots__ = ("_fn", "_value", "_done")
+    __slots__ = ("_fn", "_value", "_done", "_early", "_pending")
 
-    def __init__(self, fn: Callable[[], Any]):
+    def __init__(self, fn: Callable[[], Any], early: Optional[Callable[[], Any]] = None):
         self._fn = fn
         self._value = None
         self._done = False
+        self._early = early          # starts the work in a helper process (``linter.background``), or None
+        self._pending = None
 
     @classmethod
     def of(cls, value: Any) -> "Lazy":
@@ -63,10 +65,19 @@ class Lazy:
 
     def get(self) -> Any:
         if not self._done:
-            self._value = self._fn()
+            got = self._pending.result() if self._pending is not None else None
+            self._value = self._fn() if got is None else got
             self._done = True
-            self._fn = None
+            self._fn = self._early = self._pending = None
         return self._value
+
+    def start(self) -> bool:
+        """Begin computing the value in a helper process, when the maker said how and one may start
+        (``linter.background``); ``get()`` then collects it. True when a helper is at work."""
+        if not self._done and self._pending is None and self._early is not None:
+            self._pending = self._early()
+            self._early = None
+        return self._pending is not None
 
     @property
     def loaded(self) -> bool:

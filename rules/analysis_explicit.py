@@ -24,19 +24,59 @@ BLM = "Belytschko, Liu & Moran 2000 ch. 6"
 
 def smallest_length(model, key: str) -> Optional[float]:
     """Smallest edge of the material's elements; None when connectivity or nodes are missing."""
+    return smallest_lengths(model, [key])[key]
+
+
+def smallest_lengths(model, keys) -> dict:
+    """{material key: smallest edge of its elements, or None when connectivity or nodes are missing}.
+
+    On a large deck the node table may be read by a helper process (``Lazy.start``, ``linter.background``);
+    the materials' connectivity is then read meanwhile and kept, compact, until the nodes come. Otherwise
+    it is read block piece by block piece, keeping only a running minimum (bounded memory)."""
+    out = {k: None for k in keys}
     nodes = model.geometry.nodes
     if nodes is None:
-        return None
-    got = nodes.get()
+        return out
+    uses = {k: _uses(model, k) for k in keys}
+    held: dict = {}
+    if not nodes.loaded and any(uses.values()) and nodes.start():
+        try:
+            held = {k: [(blk.type, _compact(c)) for blk, mask in u for c in _block_pieces(blk, mask)]
+                    for k, u in uses.items() if u}
+        finally:
+            got = nodes.get()                   # also when reading failed: the helper is waited for
+    else:
+        got = nodes.get()
     if got is None:
-        return None
-    node_ids, coords = got
+        return out
+    lookup, coords = _node_index(model, got)
+    for k, u in uses.items():
+        if not u:
+            continue
+        pieces = held[k] if k in held else ((blk.type, c) for blk, mask in u for c in _block_pieces(blk, mask))
+        best = None
+        for etype, conn in pieces:
+            L = M.smallest_edge(conn, lookup, coords, etype)
+            if L is not None and (best is None or L < best):
+                best = L
+        out[k] = best
+    return out
+
+
+def _node_index(model, got):
+    """The node look-up and coordinate columns, made once per model."""
     lookup = model.derived.get("_node_lookup")
     if lookup is None:
+        node_ids, coords = got
         lookup = model.derived["_node_lookup"] = M.NodeLookup(node_ids)
         model.derived["_node_columns"] = M.columns(coords)
-    coords = model.derived["_node_columns"]
-    best = None
+    return lookup, model.derived["_node_columns"]
+
+
+def _uses(model, key: str):
+    """(block, element mask or None) of every block part the material is assigned to; None when one of
+    those blocks has no connectivity (the length is then estimated)."""
+    out = []
     for use in material_usage(model).get(key, ()):
         sel = resolve_set(model, use.section.elset)
         if not sel:
@@ -45,15 +85,13 @@ def smallest_length(model, key: str) -> Optional[float]:
             blk = model.element_blocks[i]
             if blk.conn is None:
                 return None
-            for L in _block_edges(blk, lookup, coords, mask):
-                if L is not None and (best is None or L < best):
-                    best = L
-    return best
+            out.append((blk, mask))
+    return out
 
 
-def _block_edges(blk, lookup, coords, mask):
-    """Smallest edge of each piece of a block: piece by piece when the block can give its connectivity so
-    (bounded memory on large decks; only a running minimum is kept), else of the loaded connectivity."""
+def _block_pieces(blk, mask):
+    """The selected connectivity of a block, piece by piece when the block can give it so (bounded memory
+    on large decks), else the loaded table."""
     if blk.pieces is not None and not blk.conn.loaded:
         at = 0
         for _ids, conn in blk.pieces():
@@ -61,11 +99,18 @@ def _block_edges(blk, lookup, coords, mask):
             part = None if mask is None else mask[at:at + n]
             at += n
             if n and (part is None or part.any()):
-                yield M.smallest_edge(conn, lookup, coords, blk.type, part)
+                yield conn if part is None else conn[part]
         return
     conn = blk.conn.get()
     if conn is not None and np.size(conn):
-        yield M.smallest_edge(conn, lookup, coords, blk.type, mask)
+        yield conn if mask is None else conn[mask]
+
+
+def _compact(conn: np.ndarray) -> np.ndarray:
+    """Node numbers as int32 when they fit (half the memory while they are held)."""
+    if conn.size and -2**31 <= int(conn.min()) and int(conn.max()) < 2**31:
+        return conn.astype(np.int32)
+    return conn
 
 
 def wave_speeds(mat) -> Optional[tuple[float, float, str]]:
@@ -108,8 +153,9 @@ def explicit_time_step(model, ctx):
     limit = float(ctx.threshold("analysis.explicit_ratio_warn"))
     total = sum(b.count for b in model.element_blocks)
     guess = D.estimated_length(model.geometry.bbox_min, model.geometry.bbox_max, total)
-    for mat in used_materials(model):
-        speeds = wave_speeds(mat)
+    mats = [(mat, wave_speeds(mat)) for mat in used_materials(model)]
+    lengths = smallest_lengths(model, [m.key for m, sp in mats if sp is not None and not math.isinf(sp[0])])
+    for mat, speeds in mats:
         if speeds is None:
             continue
         cd, cs, source = speeds
@@ -120,7 +166,7 @@ def explicit_time_step(model, ctx):
                               data={"length": None, "length_estimated": False, "cd": cd, "cs": cs, "dt": 0.0,
                                     "dt_shear": None, "ratio": math.inf, "source": source})
             continue
-        L = smallest_length(model, mat.key)
+        L = lengths.get(mat.key)
         estimated = L is None
         if estimated:
             L = guess

@@ -123,3 +123,23 @@ def test_consecutive_ids_read_without_look_up_give_the_sorted_look_up_answer(ety
     conn[7, 1] = 999                                # undefined: nan for that element only
     missing = M.min_edge_lengths(conn, M.NodeLookup(ids), M.columns(xyz), etype)
     assert np.isnan(missing[7]) and np.array_equal(np.delete(missing, 7), np.delete(fast, 7))
+
+
+@pytest.mark.parametrize("scattered", [False, True])
+def test_nodes_read_by_a_helper_process_give_the_same_lengths(write_deck, monkeypatch, scattered):
+    """With two jobs a large node table is read by a forked helper (``linter.background``) while the rule
+    reads the connectivity: the lengths are bit for bit those of the one-process run, and the helper ran."""
+    from linter import background
+
+    text, _mesh = deck("comma-blank", scattered)
+    path = write_deck("x-helper.inp", text)
+    one = lengths(path)
+    monkeypatch.setattr(KM, "BACKGROUND_NODE_BYTES", 0)
+    monkeypatch.setattr(background, "_cpus", lambda: 2)
+    started = []
+    real = background.start
+    monkeypatch.setattr(background, "start", lambda fn: started.append(real(fn)) or started[-1])
+    res = check_paths([str(path)], jobs=2)
+    two = {f.material: f.data["length"] for f in res.findings if f.rule == "analysis/explicit-time-step"}
+    assert two == one and set(one) == {"M1", "M2", "M3"}
+    assert len(started) == 1 and started[0] is not None

@@ -24,6 +24,8 @@ MAX_INT_DIGITS = 10
 #: bytes of element lines per piece when a rule goes over a block piece by piece (bounded memory)
 STREAM_PIECE = 2 << 20
 MAX_GENERATE = 50_000_000
+#: node lines above this many bytes may be read by a helper process (``Lazy.start``)
+BACKGROUND_NODE_BYTES = 8 << 20
 
 
 def numbers(chunk: bytes) -> np.ndarray:
@@ -191,7 +193,7 @@ def read_node(rd: Reader, kw: KeywordLine, start: int, end: int, model, nlines: 
     parts.append((data, start, end))
     if geo.nodes is None:
         ranges = parts
-        geo.nodes = Lazy(lambda: _all_nodes(ranges))
+        geo.nodes = Lazy(lambda: _all_nodes(ranges), early=lambda: _nodes_early(ranges))
 
 
 def _node_table(chunk: bytes) -> np.ndarray:
@@ -207,9 +209,21 @@ def _node_sample(data: bytes, start: int, end: int, n_lines: int) -> np.ndarray:
     return _node_table(sample)
 
 
+def _nodes_early(ranges):
+    """The node table read by a helper process while the caller reads elements (``linter.background``);
+    None (read when asked) for a small table."""
+    if sum(e - s for _d, s, e in ranges) < BACKGROUND_NODE_BYTES:
+        return None
+    from ... import background
+
+    return background.start(lambda: _all_nodes(ranges))
+
+
 def _all_nodes(ranges) -> tuple[np.ndarray, np.ndarray]:
+    """(ids, coordinates) of every node line; the coordinates column by column in memory (x, y, z each
+    contiguous), as the mesh measures use them."""
     total = sum(buffers.count(d, b"\n", s, e) + 1 for d, s, e in ranges)     # at least the data lines
-    gid, xyz, n = np.zeros(total, dtype=np.int64), np.zeros((total, 3)), 0
+    gid, xyz, n = np.zeros(total, dtype=np.int64), np.zeros((3, total)).T, 0
     for d, s, e in ranges:                  # filled piece by piece: no full-size temporary
         for a, b in _line_pieces(d, s, e, rows.PIECE):
             tab = plain_rows(d[a:b], 4)
