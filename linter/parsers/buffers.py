@@ -29,32 +29,35 @@ def is_mapped(data) -> bool:
     return isinstance(data, mmap.mmap)
 
 
-def open_text(path: str, max_size: int, checked: bool = True, keep: bool = False) -> Source:
+def open_text(path: str, max_size: int, checked: bool = True, keep: bool = False,
+              tabs_to: Optional[bytes] = None) -> Source:
     """The file as :class:`Source`; ``data`` is a read-only ``mmap`` for a large plain file, else bytes.
 
     ``keep``: the pages the check walked stay mapped (for a caller that walks the whole text next and
     keeps it, as the bulk reader does; giving them back would only make it fault them in again).
+    ``tabs_to``: the caller reads a TAB as this one byte; a file that holds a TAB is then not mapped but
+    read once with its TABs replaced (``read_deck_bytes(tabs_to=)``).
 
     ``checked=False``: only the head and the last byte of a large file are looked at before it is mapped;
     the caller checks the rest (ASCII, no CR) in its own first pass and reads the file with
     ``read_deck_bytes`` when that fails (the keyword parser does, to spare a pass)."""
     size = checked_size(path, max_size)
     if size <= MAP_ABOVE or _DONTNEED is None:
-        return read_deck_bytes(path, max_size)
+        return read_deck_bytes(path, max_size, tabs_to)
     try:
         with open(path, "rb") as fh:
             mm = mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ)
     except (OSError, ValueError):
-        return read_deck_bytes(path, max_size)
-    if not _plain(mm, checked, not keep):
+        return read_deck_bytes(path, max_size, tabs_to)
+    if not _plain(mm, checked, not keep, b"\t" if tabs_to is not None else b""):
         mm.close()
-        return read_deck_bytes(path, max_size)          # decoding or line-end normalisation needed
+        return read_deck_bytes(path, max_size, tabs_to)   # decoding, line-end normalisation or TABs
     return Source(path=path, data=mm, encoding="utf-8", line_ends="lf")
 
 
-def _plain(mm: mmap.mmap, whole: bool = True, give_back: bool = True) -> bool:
-    """ASCII text with ``\\n`` line ends and a final line end (what ``read_deck_bytes`` would leave as is);
-    not ``whole``: the head and the last byte only."""
+def _plain(mm: mmap.mmap, whole: bool = True, give_back: bool = True, refuse: bytes = b"") -> bool:
+    """ASCII text with ``\\n`` line ends and a final line end (what ``read_deck_bytes`` would leave as is)
+    and no ``refuse`` byte (one byte, or none); not ``whole``: the head and the last byte only."""
     n = len(mm)
     head = mm[:65536]
     if not n or mm[n - 1:n] != b"\n" or looks_binary(head) or head.startswith((b"\xef\xbb\xbf", b"\xff\xfe",
@@ -66,7 +69,8 @@ def _plain(mm: mmap.mmap, whole: bool = True, give_back: bool = True) -> bool:
     try:
         for lo in range(0, n, WINDOW):
             hi = min(n, lo + WINDOW)
-            bad = mm.find(b"\r", lo, hi) >= 0 or int(arr[lo:hi].max()) >= 128
+            bad = (mm.find(b"\r", lo, hi) >= 0 or (bool(refuse) and mm.find(refuse, lo, hi) >= 0)
+                   or int(arr[lo:hi].max()) >= 128)
             if give_back:
                 release(mm, lo, hi)
             if bad:

@@ -147,22 +147,25 @@ def _read_replacing(fh, size: int, max_size: int, new: bytes) -> bytes:
     """Up to ``max_size + 1`` bytes of ``fh`` with every TAB made ``new``, replaced block by block in the
     one buffer the result is made of (``io.BytesIO.getvalue`` hands that buffer over without a copy).
     A file that starts with a UTF-16 byte-order mark is read as it is (its bytes are not ASCII text)."""
+    import numpy as np
+
     bio = io.BytesIO(bytes(min(size, max_size + 1)))      # zero pages: memory is taken as they are filled
-    table = bytes.maketrans(b"\t", new)
-    got, done, utf16 = 0, 0, None
+    code = new[0]                                         # one byte
+    got, done, utf16, seg = 0, 0, None, None
     with bio.getbuffer() as view:
+        arr = np.frombuffer(view, dtype=np.uint8) if len(view) else None   # the same buffer, written in place
         while got < len(view):
             n = fh.readinto(view[got:got + READ_BLOCK])
             got += n
             if utf16 is None and (got >= 2 or not n):      # a byte-order mark needs two bytes to be seen
                 utf16 = any(bytes(view[:2]) == bom for bom, enc in BOMS if enc.startswith("utf-16"))
             if utf16 is False:
-                block = bytes(view[done:got])
-                if b"\t" in block:
-                    view[done:got] = block.translate(table)
+                seg = arr[done:got]
+                seg[seg == 9] = code
                 done = got
             if not n:
                 break
+        del arr, seg                                      # no array may outlive the buffer's export
     if got < size:                                       # the file is shorter than when it was stat'ed
         bio.truncate(got)
     elif got <= max_size:                                # ... or longer: the rest, up to the limit

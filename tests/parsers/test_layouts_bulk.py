@@ -133,23 +133,25 @@ def test_coordinate_system_on_grids_of_fixed_field_runs(write_deck, monkeypatch)
     np.testing.assert_allclose(xyz[gid == n + 1][0], [1.0, 2.0, 1003.0])
 
 
-def test_tab_deck_that_changes_while_read_is_reported_not_misread(write_deck, monkeypatch):
-    # a TAB deck is read a second time with the TABs replaced while reading; when that read no longer
-    # gives the bytes of the first one in size, the file is unreadable (top deck) or the include is
+def test_tab_deck_is_read_once_with_its_tabs_made_commas(write_deck, monkeypatch):
+    # a TAB separates fields as a comma does (MYSTRAN User Manual, Bulk Data format): a deck and its include
+    # that hold TABs are each read once, with the TABs replaced while reading, and give the free-field model;
+    # mapped (as above 16 MB) the same: a file with a TAB is read, not mapped
     text, _coords, _ne = deck("tab", (4, 3, 2))
+    assert "\t" in text
     inc = write_deck("mesh.bdf", text.split("BEGIN BULK\n", 1)[1])
     top = write_deck("top.bdf", "SOL 101\nCEND\nBEGIN BULK\nINCLUDE 'mesh.bdf'\nENDDATA\n")
-    real = B.read_deck_bytes
-
-    def shrinking(path, max_size, tabs_to=None):
-        src = real(path, max_size, tabs_to)
-        if tabs_to is not None:
-            src.data = src.data[:-10]
-        return src
-
-    monkeypatch.setattr(B, "read_deck_bytes", shrinking)
-    m = B.parse(str(top), ParseOptions())
-    bad = [i for i in m.issues if i.code == "include-unreadable"]
-    assert len(bad) == 1 and "changed while it was being read" in bad[0].message
-    with pytest.raises(B.SourceError):
-        B.parse(str(inc), ParseOptions())
+    free = write_deck("free.bdf", deck("free", (4, 3, 2))[0])
+    want = read(free, "normal", monkeypatch)
+    for how in ("normal", "mapped"):
+        with monkeypatch.context() as mp:
+            real, calls = buffers.read_deck_bytes, []
+            mp.setattr(buffers, "read_deck_bytes", lambda p, m, t=None: calls.append((p, t)) or real(p, m, t))
+            got = read(top, how, monkeypatch)
+        # mapped: the top deck has no TAB and is mapped; only the include is read
+        expected = [(str(top), b","), (str(inc), b",")] if how == "normal" else [(str(inc), b",")]
+        assert sorted(calls) == sorted(expected), how
+        assert [b[:3] for b in got[1]] == [b[:3] for b in want[1]]
+        for x, y in zip(got[1], want[1]):
+            np.testing.assert_array_equal(x[5], y[5])
+        np.testing.assert_array_equal(got[2][1], want[2][1])

@@ -84,7 +84,8 @@ def parse(path: str, options) -> DeckModel:
     display = getattr(options, "display_path", None) or path
     model = DeckModel(path=display, format=FORMAT, dialect=getattr(options, "dialect", None) or DEFAULT_DIALECT)
     st = _State(model, IncludeTracker(options.include), options)
-    src = buffers.open_text(path, options.max_file_size, keep=True)   # SourceError for an unreadable top file
+    # SourceError for an unreadable top file; a TAB separates fields as a comma does (as MYSTRAN reads them)
+    src = buffers.open_text(path, options.max_file_size, keep=True, tabs_to=b",")
     data = src.data
     mode = "exec"
     if not re.search(rb"(?m)^[ \t]*[^$\s]", data):
@@ -138,8 +139,8 @@ def includes_of(path: str, options) -> list[str]:
 
 def _scan(st: _State, path: str, display: str, src, mode: str) -> None:
     model = st.model
-    raw = _without_tabs(path, src, st.options.max_file_size)
-    src.data = b""          # keep one copy of the file in memory
+    raw = src.data          # no TAB left: read with them made commas, or mapped because it has none
+    src.data = b""
     model.files.append(display)
     st.tracker.stack.append(os.path.realpath(path))
     if src.encoding not in ("utf-8",):
@@ -151,7 +152,7 @@ def _scan(st: _State, path: str, display: str, src, mode: str) -> None:
         lo_byte = e + 1 if e >= 0 else len(raw)
     runs: list = []
     if mode == "bulk" or begin is not None:
-        # no TAB is left (_without_tabs) and no CR (line ends are normalised, or a mapped file has none)
+        # no TAB is left (read as commas) and no CR (line ends are normalised, or a mapped file has none)
         pieces, runs = carve(raw, lo_byte, buffers.count(raw, b"\n", 0, lo_byte),
                              lambda *a: accept_run(ELEMENTS, *a), absent=b"\r\t")
     if runs:
@@ -191,22 +192,6 @@ def _keep_text(model: DeckModel, display: str, raw, generic: list) -> None:
         marks.extend(buffers.find_all(raw, *MARK_BYTES, a=a, b=b))
     model.extras.setdefault("mark_bytes", {})[display] = sorted(marks)
     model.extras.setdefault("line_anchors", {})[display] = [(line + 1, a) for a, _b, line in generic]
-
-
-def _without_tabs(path: str, src, max_size: int) -> bytes:
-    """The file's bytes with every TAB made a comma (a TAB separates fields as a comma does, as MYSTRAN reads
-    them). ``src.data`` is dropped and the file read again with the TABs replaced while reading
-    (``read_deck_bytes(tabs_to=)``), so that it is never held twice. A file that can no longer be read, or
-    changed size in between, is a ``SourceError``."""
-    data = src.data
-    if data.find(b"\t") < 0:
-        return data
-    size = len(data)
-    src.data = data = b""
-    again = read_deck_bytes(path, max_size, tabs_to=b",").data
-    if len(again) != size:
-        raise SourceError("file-unreadable", "the file changed while it was being read")
-    return again
 
 
 def _exec_lines(st, data, lines, lo, hi, display, path) -> None:
@@ -255,7 +240,7 @@ def _include(st: _State, written: str, line: int, display: str, path: str, mode:
                                   data={"include": written}))
         return
     try:
-        src = buffers.open_text(res.path, st.options.max_file_size, keep=True)
+        src = buffers.open_text(res.path, st.options.max_file_size, keep=True, tabs_to=b",")
     except SourceError as exc:
         model.issues.append(Issue("include-unreadable", f"included file '{written}': {exc.message}", loc,
                                   data={"include": written}))
