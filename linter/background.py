@@ -22,8 +22,6 @@ import struct
 import threading
 from typing import Callable, Iterator, Optional
 
-import numpy as np
-
 _ALLOWED = False
 _HEAD = struct.Struct("<Q")
 
@@ -119,6 +117,8 @@ def start(fn: Callable[[], tuple]) -> Optional[Pending]:
 def _send(pipe, arrays: tuple) -> None:
     """Header (per array: dtype, shape, memory order), then the arrays' bytes (a column-major array as its
     transpose, so that it arrives column-major, as the caller made it)."""
+    import numpy as np
+
     order = ["F" if a.ndim > 1 and a.flags.f_contiguous and not a.flags.c_contiguous else "C" for a in arrays]
     flat = [np.ascontiguousarray(a.T if o == "F" else a) for a, o in zip(arrays, order)]
     head = json.dumps([[a.dtype.str, list(a.shape), o] for a, o in zip(arrays, order)]).encode()
@@ -131,6 +131,8 @@ def _send(pipe, arrays: tuple) -> None:
 
 
 def _receive(pipe) -> tuple:
+    import numpy as np
+
     (size,) = _HEAD.unpack(_read_exactly(pipe, _HEAD.size))
     if size > 1 << 20:
         raise ValueError("helper header too long")

@@ -134,7 +134,8 @@ def _config_options(c) -> None:
     c.add_argument("--ignore", action="append", default=[], metavar="ID|FAMILY",
                    help="skip these rules or families (repeatable, or comma-separated)")
     c.add_argument("--jobs", "-j", type=_positive_int, metavar="N",
-                   help="check files in N processes (default: the processors this process may use)")
+                   help="check files in N processes; one large deck may use a second process for its node table "
+                        "(default: the processors this process may use; 1: one process)")
 
 
 def _positive_int(text: str) -> int:
