@@ -82,11 +82,12 @@ def line_fields(chunk: bytes) -> np.ndarray:
     if not nl.size:
         return np.zeros(0, dtype=np.int64)
     starts = np.concatenate(([0], nl[:-1] + 1))
-    commas = np.add.reduceat((b == 44).view(np.int8), starts, dtype=np.int64)
+    # (a line's commas fit in int32 below 2 GiB of text; summing in int32 is the quicker reduction)
+    commas = np.add.reduceat((b == 44).view(np.int8), starts, dtype=np.int32 if b.size < 2**31 else np.int64)
     length = nl - starts
     trailing = (length > 0) & (b[nl - 1] == 44)
     keep = (length > 0) & (commas < length)
-    return (commas + 1 - trailing)[keep]
+    return (commas + 1 - trailing)[keep].astype(np.int64)
 
 
 def fields_per_line(c: bytes) -> np.ndarray:
