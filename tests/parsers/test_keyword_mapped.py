@@ -1,6 +1,6 @@
 """Large keyword decks are memory-mapped (``linter/parsers/buffers.py``): the model must be the one the
 bytes path gives, for every layout, and a file that needs decoding or line-end normalisation is read
-as before. The keyword-line scan (``_special_lines``) is compared with a line-by-line reading of its
+as before. The keyword-line scan (``scan.special_lines``) is compared with a line-by-line reading of its
 own definition (a keyword line starts, after blanks and tabs, with one ``*``; ``**`` lines and blank
 lines are counted apart), whatever the chunk size."""
 from __future__ import annotations
@@ -16,6 +16,7 @@ from hypothesis import strategies as st
 
 from linter.parsers import ParseOptions, buffers
 from linter.parsers.keyword import parser as K
+from linter.parsers.keyword import scan as KS
 
 L = load("layouts")
 
@@ -45,7 +46,7 @@ def summary(m):
 
 def parse(path, monkeypatch, mapped: bool, chunk: int = 0):
     monkeypatch.setattr(buffers, "MAP_ABOVE", 0 if mapped else 1 << 40)
-    monkeypatch.setattr(K, "_CHUNK", chunk or 1 << 21)
+    monkeypatch.setattr(KS, "CHUNK", chunk or 1 << 21)
     m = K.parse(str(path), ParseOptions())
     return m, summary(m)
 
@@ -112,13 +113,13 @@ LINES = st.sampled_from(["*NODE", "  *ELEMENT, TYPE=C3D8", "\t*STEP", "** note",
 @given(lines=st.lists(LINES, max_size=40), end=st.sampled_from(["\n", ""]), chunk=st.sampled_from([8, 31, 4096]))
 def test_keyword_line_scan_matches_a_line_by_line_reading(lines, end, chunk):
     data = ("\n".join(lines) + end).encode()
-    saved = K._CHUNK
-    K._CHUNK = chunk
+    saved = KS.CHUNK
+    KS.CHUNK = chunk
     marks: list = []
     try:
-        positions, linenos, before, total = K._special_lines(data, marks=marks)
+        positions, linenos, before, total = KS.special_lines(data, marks=marks)
     finally:
-        K._CHUNK = saved
+        KS.CHUNK = saved
     assert (positions, linenos, before.tolist(), total) == reference(data)
     assert sorted(marks) == [i for i, c in enumerate(data) if c in b"wW"]     # for the suppression scan
 

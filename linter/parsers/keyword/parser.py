@@ -27,86 +27,9 @@ from . import cards, keywords
 from . import mesh
 from .lex import KeywordLine, Reader, parse_keyword_line
 from .materials import MATERIAL_CARDS, read_material_card
-from ...suppressions import MARK_BYTES
+from .scan import SPECIAL_AT_START, special_lines
 
 MAX_NAME = 80
-
-#: a newline followed by a keyword, comment or blank line (the match ends where that line starts)
-_SPECIAL = re.compile(rb"\n(?=[ \t]*[*\n])")
-_SPECIAL_AT_START = re.compile(rb"[ \t]*[*\n]")
-_CHUNK = 1 << 21
-
-
-def _special_lines(data: bytes, plain: bool = False, marks: Optional[list] = None
-                   ) -> Optional[tuple[list[int], list[int], np.ndarray, int]]:
-    """Where the lines start that begin (after blanks) with a keyword (``*`` but not ``**``), their 1-based line
-    numbers, the number of comment and blank lines before each of them (cumulative, then the total), and the
-    number of newlines in ``data``: the matches of ``_SPECIAL``, found with numpy in chunks (a few MB of
-    temporaries at a time) instead of a regular-expression scan; only keyword lines become Python ints.
-
-    ``plain``: also check, on the way, that the text is plain (ASCII, no CR: what ``buffers.open_text(...,
-    checked=False)`` has not checked); None when it is not. ``marks``: a list that gets the offsets of the
-    bytes the suppression scan looks for (``suppressions.MARK_BYTES``), found while each chunk is at hand."""
-    arr = np.frombuffer(data, dtype=np.uint8)
-    n = arr.size
-    positions: list[int] = []
-    lines: list[int] = []
-    skips: list[np.ndarray] = []
-    n_skip = 0
-    seen = 0
-    for lo in range(0, n, _CHUNK):
-        if plain and (int(arr[lo:lo + _CHUNK].max()) >= 128 or data.find(b"\r", lo, lo + _CHUNK) >= 0):
-            return None
-        if marks is not None:
-            for one in MARK_BYTES:
-                i = data.find(one, lo, lo + _CHUNK)
-                while i >= 0:
-                    marks.append(i)
-                    i = data.find(one, i + 1, lo + _CHUNK)
-        nl = np.flatnonzero(arr[lo:lo + _CHUNK] == 10) + lo
-        if not nl.size:
-            continue
-        head = nl + 1                                   # where each following line starts
-        nxt = np.zeros(head.shape, dtype=np.uint8)
-        ok = head < n
-        nxt[ok] = arr[head[ok]]
-        special = (nxt == 42) | ((nxt == 10) & ok)
-        first = np.where(ok, head, n - 1)               # where each line's first non-blank is
-        blank = np.flatnonzero(((nxt == 32) | (nxt == 9)) & ok)
-        if blank.size:      # only a blank-led line that holds a '*' or ends in a blank can be special
-            keep = np.zeros(nl.size, dtype=bool)
-            keep[-1] = True                             # the last line may go on in the next chunk
-            stars = np.flatnonzero(arr[lo:lo + _CHUNK] == 42) + lo
-            if stars.size:
-                k = np.searchsorted(nl, stars)          # a star after line end k-1 is on the line head[k-1]
-                keep[k[k > 0] - 1] = True
-            last = arr[nl[1:] - 1]
-            keep[:-1] |= (last == 32) | (last == 9)
-            blank = blank[keep[blank]]
-        if blank.size:                                  # skip leading blanks, then look again
-            idx = head[blank] + 1
-            for _ in range(256):
-                c = arr[np.minimum(idx, n - 1)]
-                more = ((c == 32) | (c == 9)) & (idx < n)
-                if not more.any():
-                    break
-                idx[more] += 1
-            c = arr[np.minimum(idx, n - 1)]
-            special[blank] = ((c == 42) | (c == 10)) & (idx < n)
-            first[blank] = np.minimum(idx, n - 1)
-        hit = np.flatnonzero(special)
-        f = first[hit]
-        kw = (arr[f] == 42) & ((f + 1 >= n) | (arr[np.minimum(f + 1, n - 1)] != 42)) & (head[hit] < n)
-        before = np.cumsum(~kw) - ~kw + n_skip         # comment/blank lines before each keyword line
-        positions.extend(head[hit[kw]].tolist())
-        lines.extend((hit[kw] + seen + 2).tolist())
-        skips.append(before[kw])
-        n_skip += int((~kw).sum())
-        seen += nl.size
-        buffers.release(data, lo, lo + _CHUNK)          # a mapped file: the scanned pages go back
-    skipped = np.concatenate(skips + [np.array([n_skip])]) if skips else np.array([0])
-    return positions, lines, skipped, seen
-
 
 #: candidate *INCLUDE lines (a literal newline first keeps the scan fast; the file start is tried apart)
 _INCLUDE = re.compile(rb"\n[ \t]*\*[ \t]*[iI][ \t]*[nN][ \t]*[cC][^\n]*")
@@ -244,7 +167,7 @@ class _Parser:
         src = buffers.open_text(real_path, self.options.max_file_size, checked=False)
         scan, marks = None, []
         if buffers.is_mapped(src.data):              # a large file mapped: the first scan checks it is plain
-            scan = _special_lines(src.data, plain=True, marks=marks)
+            scan = special_lines(src.data, plain=True, marks=marks)
             if scan is None:
                 src, marks = read_deck_bytes(real_path, self.options.max_file_size), []
         model = self.model
@@ -269,11 +192,11 @@ class _Parser:
         kws: list[tuple[int, int, int]] = []        # (start, end of line, line number)
         skipped: list[int] = [0]                     # comment/blank lines before each keyword, cumulative
         line = 1
-        positions, linenos, before, total_nl = scan or _special_lines(data, marks=marks)
+        positions, linenos, before, total_nl = scan or special_lines(data, marks=marks)
         if marks is not None:                        # the suppression scan starts from these
             self.model.extras.setdefault("mark_bytes", {})[rd.path] = sorted(marks)
         first_is = 0                                 # the first line: a keyword (1), comment/blank (-1), data (0)
-        if _SPECIAL_AT_START.match(data):
+        if SPECIAL_AT_START.match(data):
             c2 = data[:4096].lstrip(b" \t")[:2]
             first_is = 1 if c2[:1] == b"*" and c2 != b"**" else -1
         if first_is == 1:
