@@ -105,7 +105,7 @@ def read_deck_bytes(path: str, max_size: int, tabs_to: Optional[bytes] = None) -
             if tabs_to is None:
                 data = fh.read(size + 1)                 # a buffer of the file's size, not of the limit
                 if len(data) > size:                     # the file grew since: read on, up to the limit
-                    data += fh.read(max(0, max_size + 1 - len(data)))
+                    data += _read_upto(fh, max_size + 1 - len(data))
             else:
                 data = _read_replacing(fh, size, max_size, tabs_to)
     except OSError as exc:
@@ -169,7 +169,7 @@ def _read_replacing(fh, size: int, max_size: int, new: bytes) -> bytes:
     if got < size:                                       # the file is shorter than when it was stat'ed
         bio.truncate(got)
     elif got <= max_size:                                # ... or longer: the rest, up to the limit
-        rest = fh.read(max_size + 1 - got)
+        rest = _read_upto(fh, max_size + 1 - got)
         if rest:
             if utf16 is None:                            # the file was empty when it was stat'ed
                 utf16 = any(rest.startswith(bom) for bom, enc in BOMS if enc.startswith("utf-16"))
@@ -178,6 +178,19 @@ def _read_replacing(fh, size: int, max_size: int, new: bytes) -> bytes:
     data = bio.getvalue()
     del bio
     return data
+
+
+def _read_upto(fh, n: int) -> bytes:
+    """At most ``n`` more bytes of ``fh``, read a block at a time (``fh.read(n)`` would first take a buffer of
+    ``n`` bytes, the whole size limit, even at the end of the file)."""
+    parts, got = [], 0
+    while got < n:
+        more = fh.read(min(READ_BLOCK, n - got))
+        if not more:
+            break
+        parts.append(more)
+        got += len(more)
+    return b"".join(parts)
 
 
 def text(raw: bytes) -> str:

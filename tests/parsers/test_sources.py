@@ -63,6 +63,38 @@ def test_tabs_replaced_while_reading_equal_replace_after_reading(write_deck, mon
     assert b"\t" not in got.data
 
 
+def test_reading_never_asks_for_a_buffer_of_the_size_limit(write_deck, monkeypatch):
+    # the limit may be far larger than memory (the default is 4 GiB): no single read may ask for it, with or
+    # without TABs replaced, and a file that grew since it was stat'ed is still read up to the limit
+    p = write_deck("tabbed.bdf", b"GRID\t1\t\t0.\t0.\t0.\n")
+    asked = []
+    real_open = open
+
+    class Spy:
+        def __init__(self, fh):
+            self.fh = fh
+
+        def read(self, n=-1):
+            asked.append(n)
+            return self.fh.read(n)
+
+        def __getattr__(self, name):
+            return getattr(self.fh, name)
+
+        def __enter__(self):
+            return self
+
+        def __exit__(self, *exc):
+            self.fh.close()
+
+    monkeypatch.setattr("builtins.open", lambda *a, **k: Spy(real_open(*a, **k)))
+    limit = 1 << 40
+    for tabs in (None, b","):
+        got = read_deck_bytes(str(p), limit, tabs_to=tabs)
+        assert got.data == (b"GRID,1,,0.,0.,0.\n" if tabs else b"GRID\t1\t\t0.\t0.\t0.\n")
+    assert asked and max(asked) <= sources.READ_BLOCK
+
+
 def test_include_policy(tmp_path):
     root = tmp_path / "repo"
     (root / "model").mkdir(parents=True)
