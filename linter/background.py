@@ -6,9 +6,9 @@ reads them and reaps the helper. Anything that stops the helper (an exception, a
 pipe) makes ``result()`` return None and the caller computes ``fn()`` itself, so an answer never
 depends on whether the helper ran. ``start`` returns None, and nothing is forked, unless a fork is
 both safe and useful: the driver allowed it (:func:`allowed`: a check in one process with more than
-one job, never inside a worker of the ``--jobs`` pool, whose siblings use the other cores), POSIX
-``fork`` exists, the process may use more than one processor, and no other thread runs (a fork copies
-only the calling thread; a lock another thread holds would never be released in the helper).
+one job, never inside a worker of the ``--jobs`` pool, whose siblings use the other cores), on Linux,
+the process may use more than one processor, and no other thread runs (a fork copies only the calling
+thread; a lock another thread holds would never be released in the helper).
 
 The helper only reads what the parent holds (the deck's bytes, a memory map of it) and writes to its
 end of the pipe; it never opens, writes or executes anything.
@@ -19,10 +19,12 @@ import contextlib
 import json
 import os
 import struct
+import sys
 import threading
 from typing import Callable, Iterator, Optional
 
 _ALLOWED = False
+_PLATFORM = sys.platform
 _HEAD = struct.Struct("<Q")
 
 
@@ -45,7 +47,10 @@ def _cpus() -> int:
 
 
 def possible() -> bool:
-    return _ALLOWED and hasattr(os, "fork") and _cpus() > 1 and threading.active_count() == 1
+    # Linux only: on macOS a forked child of a process that loaded system frameworks may crash (the reason
+    # Python's multiprocessing starts its workers by spawning there)
+    return (_ALLOWED and _PLATFORM.startswith("linux") and hasattr(os, "fork") and _cpus() > 1
+            and threading.active_count() == 1)
 
 
 class Pending:

@@ -63,6 +63,9 @@ def test_no_helper_unless_allowed_with_two_processors_and_one_thread(monkeypatch
         monkeypatch.setattr(background, "_cpus", lambda: 1)
         assert background.start(arrays) is None                   # one processor
         monkeypatch.setattr(background, "_cpus", lambda: 2)
+        monkeypatch.setattr(background, "_PLATFORM", "darwin")
+        assert background.start(arrays) is None                   # not Linux
+        monkeypatch.setattr(background, "_PLATFORM", "linux")
         stop = threading.Event()
         t = threading.Thread(target=stop.wait)
         t.start()
