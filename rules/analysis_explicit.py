@@ -22,11 +22,6 @@ from ._text import short
 BLM = "Belytschko, Liu & Moran 2000 ch. 6"
 
 
-def smallest_length(model, key: str) -> Optional[float]:
-    """Smallest edge of the material's elements; None when connectivity or nodes are missing."""
-    return smallest_lengths(model, [key])[key]
-
-
 def smallest_lengths(model, keys) -> dict:
     """{material key: smallest edge of its elements, or None when connectivity or nodes are missing}.
 
