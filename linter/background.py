@@ -1,23 +1,26 @@
 """Work done in a forked helper process while the caller goes on: the second core on a large deck.
 
-``start(fn)`` forks; the helper runs ``fn()``, which returns a tuple of numpy arrays, sends them through
-a pipe and ends with ``os._exit`` (no clean-up of the parent's state runs in it); ``Pending.result()``
-reads them and reaps the helper. Anything that stops the helper (an exception, a signal, a broken
-pipe) makes ``result()`` return None and the caller computes ``fn()`` itself, so an answer never
-depends on whether the helper ran. ``start`` returns None, and nothing is forked, unless a fork is
-both safe and useful: the driver allowed it (:func:`allowed`: a check in one process with more than
-one job, never inside a worker of the ``--jobs`` pool, whose siblings use the other cores), on Linux,
-the process may use more than one processor, and no other thread runs (a fork copies only the calling
-thread; a lock another thread holds would never be released in the helper).
+``start(fn)`` forks; the helper runs ``fn()``, which returns a tuple of numpy arrays, writes them into a
+shared memory file (``memfd_create``, made before the fork) and ends with ``os._exit`` (no clean-up of
+the parent's state runs in it); ``Pending.result()`` reaps the helper and maps the arrays (no copy).
+Anything that stops the helper (an exception, a signal) makes ``result()`` return None and the
+caller computes ``fn()`` itself, so an answer never depends on whether the helper ran. ``start``
+returns None, and nothing is forked, unless a fork is both safe and useful: the driver allowed it
+(:func:`allowed`: a check in one process with more than one job, never inside a worker of the
+``--jobs`` pool, whose siblings use the other cores), on Linux, the process may use more than one
+processor, and no other thread runs (a fork copies only the calling thread; a lock another thread
+holds would never be released in the helper).
 
-The helper only reads what the parent holds (the deck's bytes, a memory map of it) and writes to its
-end of the pipe; it never opens, writes or executes anything.
+The helper only reads what the parent holds (the deck's bytes, a memory map of it) and writes to the
+shared memory file; it never opens, writes or executes anything else.
 """
 from __future__ import annotations
 
 import contextlib
 import json
+import mmap
 import os
+import signal
 import struct
 import sys
 import threading
@@ -60,23 +63,28 @@ class Pending:
         self.pid, self.fd = pid, fd
 
     def result(self) -> Optional[tuple]:
-        out = None
         try:
-            with os.fdopen(self.fd, "rb", buffering=0) as pipe:
-                self.fd = -1
-                out = _receive(pipe)
+            ok = self._reap()                       # the helper has written everything when it has ended
+            return _load(self.fd) if ok else None
         except (OSError, ValueError, KeyError, TypeError):
-            out = None
+            return None
         finally:
-            ok = self._reap()
-        return out if ok else None
+            self._close()
 
     def cancel(self) -> None:
-        """Stop waiting for the helper: close the pipe (the helper ends on its next write) and reap it."""
+        """Stop the helper and forget its work."""
+        if self.pid > 0:
+            try:
+                os.kill(self.pid, signal.SIGKILL)
+            except OSError:
+                pass
+        self._reap()
+        self._close()
+
+    def _close(self) -> None:
         if self.fd >= 0:
             os.close(self.fd)
             self.fd = -1
-        self._reap()
 
     def _reap(self) -> bool:
         if self.pid <= 0:
@@ -95,73 +103,76 @@ def start(fn: Callable[[], tuple]) -> Optional[Pending]:
     if not possible():
         return None
     try:
-        r, w = os.pipe()
-    except OSError:
+        fd = os.memfd_create("deckwarden-helper", os.MFD_CLOEXEC)
+    except (AttributeError, OSError):
         return None
     try:
         pid = os.fork()
     except OSError:
-        os.close(r)
-        os.close(w)
+        os.close(fd)
         return None
     if pid == 0:                                     # the helper
         code = 1
         try:
-            os.close(r)
-            with os.fdopen(w, "wb", buffering=0) as pipe:
-                _send(pipe, fn())
+            _store(fd, fn())
             code = 0
         except BaseException:                        # noqa: BLE001 - the helper must end here, whatever happened
             pass
         finally:
             os._exit(code)
-    os.close(w)
-    return Pending(pid, r)
+    return Pending(pid, fd)
 
 
-def _send(pipe, arrays: tuple) -> None:
-    """Header (per array: dtype, shape, memory order), then the arrays' bytes (a column-major array as its
-    transpose, so that it arrives column-major, as the caller made it)."""
+_ALIGN = 64
+
+
+def _store(fd: int, arrays: tuple) -> None:
+    """Write the arrays into the shared memory file: the header length (8 bytes), the header (per array:
+    dtype, shape, memory order, offset), then each array's bytes (a column-major array as its transpose, so
+    that it comes back column-major, as the caller made it)."""
     import numpy as np
 
     order = ["F" if a.ndim > 1 and a.flags.f_contiguous and not a.flags.c_contiguous else "C" for a in arrays]
     flat = [np.ascontiguousarray(a.T if o == "F" else a) for a, o in zip(arrays, order)]
-    head = json.dumps([[a.dtype.str, list(a.shape), o] for a, o in zip(arrays, order)]).encode()
-    pipe.write(_HEAD.pack(len(head)) + head)
-    for a in flat:
-        view = memoryview(a.reshape(-1).view(np.uint8))
-        while view.nbytes:
-            n = pipe.write(view)
-            view = view[n:]
+    room = 4096 + 256 * len(flat)                   # the header's place, before the first array
+    at, spec = room, []
+    for a, o in zip(flat, order):
+        spec.append([a.dtype.str, list(a.T.shape if o == "F" else a.shape), o, at])
+        at += -(-a.nbytes // _ALIGN) * _ALIGN
+    head = json.dumps(spec).encode()
+    if _HEAD.size + len(head) > room:
+        raise ValueError("helper header too long")
+    os.ftruncate(fd, at)
+    with mmap.mmap(fd, at) as mm:
+        mm[:_HEAD.size + len(head)] = _HEAD.pack(len(head)) + head
+        for a, (_d, _s, _o, off) in zip(flat, spec):
+            if a.nbytes:
+                dst = np.frombuffer(mm, dtype=np.uint8, count=a.nbytes, offset=off)
+                dst[:] = a.reshape(-1).view(np.uint8)
+                del dst
 
 
-def _receive(pipe) -> tuple:
+def _load(fd: int) -> tuple:
+    """The arrays of :func:`_store`, as views of the shared memory (no copy; it is freed with them)."""
     import numpy as np
 
-    (size,) = _HEAD.unpack(_read_exactly(pipe, _HEAD.size))
-    if size > 1 << 20:
+    size = os.fstat(fd).st_size
+    if size < _HEAD.size:
+        raise ValueError("helper wrote nothing")
+    mm = mmap.mmap(fd, size)
+    (n,) = _HEAD.unpack(mm[:_HEAD.size])
+    if _HEAD.size + n > size:
         raise ValueError("helper header too long")
     out = []
-    for dtype, shape, order in json.loads(_read_exactly(pipe, size)):
+    for dtype, shape, order, off in json.loads(mm[_HEAD.size:_HEAD.size + n]):
+        dt = np.dtype(dtype)
         shape = tuple(int(s) for s in shape)
-        arr = np.empty(shape[::-1] if order == "F" else shape, dtype=np.dtype(dtype))
-        view = memoryview(arr.reshape(-1).view(np.uint8))
-        while view.nbytes:
-            n = pipe.readinto(view)
-            if not n:
-                raise ValueError("helper ended early")
-            view = view[n:]
+        count = 1
+        for s in shape:
+            count *= s
+        if int(off) + count * dt.itemsize > size:
+            raise ValueError("helper array past the end")
+        arr = np.frombuffer(mm, dtype=dt, count=count, offset=int(off)) if count else np.zeros(0, dtype=dt)
+        arr = arr.reshape(shape[::-1] if order == "F" else shape)
         out.append(arr.T if order == "F" else arr)
-    if pipe.read(1):
-        raise ValueError("helper sent more than it announced")
     return tuple(out)
-
-
-def _read_exactly(pipe, n: int) -> bytes:
-    buf = bytearray()
-    while len(buf) < n:
-        got = pipe.read(n - len(buf))
-        if not got:
-            raise ValueError("helper ended early")
-        buf += got
-    return bytes(buf)
