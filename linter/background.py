@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import contextlib
 import json
+import math
 import mmap
 import os
 import signal
@@ -167,9 +168,7 @@ def _load(fd: int) -> tuple:
     for dtype, shape, order, off in json.loads(mm[_HEAD.size:_HEAD.size + n]):
         dt = np.dtype(dtype)
         shape = tuple(int(s) for s in shape)
-        count = 1
-        for s in shape:
-            count *= s
+        count = math.prod(shape)
         if int(off) + count * dt.itemsize > size:
             raise ValueError("helper array past the end")
         arr = np.frombuffer(mm, dtype=dt, count=count, offset=int(off)) if count else np.zeros(0, dtype=dt)

@@ -462,7 +462,7 @@ def test_runs_read_the_same_as_the_line_table(write_deck, monkeypatch, odd, smal
 
     p = write_deck("strip.bdf", _strip_deck(2000, odd))
     with monkeypatch.context() as mp:                       # no runs: everything through the line table
-        mp.setattr(bulk_parser, "carve", lambda data, lo, line0, accept, **kw: ([(lo, len(data), line0)], []))
+        mp.setattr(bulk_parser, "carve", lambda data, lo, line0, accept: ([(lo, len(data), line0)], []))
         ref = _summary(parse(p))
     calls = []
     real_summary = bulk_runs.element_summary

@@ -53,15 +53,4 @@ def find(data, sub: bytes, a: int, b: int) -> int:
     return -1
 
 
-def count_newlines(data, a: int, b: int) -> int:
-    if not isinstance(data, mmap.mmap):
-        return data.count(b"\n", a, b)
-    total = 0
-    for pos in range(a, b, WINDOW):
-        stop = min(b, pos + WINDOW)
-        total += data[pos:stop].count(b"\n")
-        drop(data, pos, stop)
-    return total
-
-
-__all__ = ["open_mesh", "drop", "find", "count_newlines", "SourceError"]
+__all__ = ["open_mesh", "drop", "find", "SourceError"]

@@ -12,7 +12,8 @@ from typing import Optional
 
 import numpy as np
 
-from .mapped import count_newlines, drop
+from .. import buffers
+from .mapped import drop
 
 CHUNK = 1 << 20
 #: topological dimension of the cell types by their name
@@ -88,7 +89,7 @@ class Mesh:
         last, line = self._line_cache if offset >= self._line_cache[0] else (0, 1)
         if self._data is None:
             return line
-        line += count_newlines(self._data, last, offset)
+        line += buffers.count(self._data, b"\n", last, offset)
         self._line_cache = (offset, line)
         return line
 

@@ -23,7 +23,6 @@ import numpy as np
 from .fields import PAD, vec_int, vec_real
 
 NEWLINE, SPACE, STAR, PLUS = 10, 32, 42, 43
-FORBIDDEN = (b",", b"$", b"\r", b"\t")
 
 
 class Layout:

@@ -46,7 +46,7 @@ def line_table(data: bytes, pieces: Optional[list] = None) -> Lines:
         first = np.searchsorted(lines.ls, starts)
         lines.no = np.asarray([l0 for _a, _b, l0 in pieces], dtype=np.int64)[k] + (np.arange(lines.ls.size) - first[k])
         return lines
-    padded = bytes(data) + b" " * PAD if buffers.is_mapped(data) else data + b" " * PAD
+    padded = b"".join((data, b" " * PAD))      # one copy, of bytes or of a mapped file
     buf = np.frombuffer(padded, dtype=np.uint8)
     nl = np.flatnonzero(buf == 10)
     ls = np.concatenate(([0], nl + 1)).astype(np.int64)
@@ -197,19 +197,18 @@ class Run:
     count: int = 0      # entries (set by the summary; 0: one per line)
 
 
-def carve(data: bytes, lo: int, line0: int, accept: Callable, absent: bytes = b"") -> tuple[list, list]:
+def carve(data: bytes, lo: int, line0: int, accept: Callable) -> tuple[list, list]:
     """Split data[lo:] into runs of one mesh card (blocks of up to ~BLOCK bytes) and generic pieces.
 
-    A run holds no ``$ * \\r``, tab nor blank (a block is cut before the first line that has
-    one), and ``accept(name, data, run)`` returns a summary (not None) after checking that every
-    line starts with ``NAME,`` (GRID or an element card) or, for elements, with ``+`` (a
+    ``data`` holds no CR and no TAB (the reader normalises line ends and reads TABs as commas). A run holds
+    no ``$`` (a fixed-field run no comma either; a free-field run no ``*`` nor blank): a block is cut
+    before the first line that has one. ``accept(name, data, run)`` returns a summary (not None) after
+    checking that every line starts with ``NAME,`` (GRID or an element card) or, for elements, with ``+`` (a
     continuation); it sets ``run.nlines`` and may end the run earlier, before a line that starts
     another entry. Where no run fits, SMALL bytes go to the generic pieces. Everything after a
     generic piece that mentions ENDDATA, and the last PAD bytes of the file, stay generic.
     Returns (pieces, runs); pieces are (start, end, first line index) and cover all but the runs.
-    ``absent``: bytes the caller knows the file does not hold (their searches are skipped).
     """
-    absent = tuple(absent[i:i + 1] for i in range(len(absent)))
     n = len(data)
     pieces: list = []
     runs: list = []
@@ -219,7 +218,7 @@ def carve(data: bytes, lo: int, line0: int, accept: Callable, absent: bytes = b"
         q = _boundary(data, p + BLOCK, limit)
         if q < 0:
             q = _boundary_before(data, p, limit)
-        run = _run(data, p, q, line, accept, absent) if q > p else None
+        run = _run(data, p, q, line, accept) if q > p else None
         if run is not None:
             if gen < p:
                 pieces.append((gen, p, gen_line))
@@ -254,7 +253,7 @@ def _boundary_before(data: bytes, p: int, limit: int) -> int:
     return r + 1 if r >= p else -1
 
 
-def _run(data: bytes, p: int, q: int, line: int, accept: Callable, absent: tuple = ()) -> "Run | None":
+def _run(data: bytes, p: int, q: int, line: int, accept: Callable) -> "Run | None":
     head = data[p:p + 9]
     c = head.find(b",")
     fixed = c < 0
@@ -262,9 +261,7 @@ def _run(data: bytes, p: int, q: int, line: int, accept: Callable, absent: tuple
     if c == 0 or not name.isupper() or not name.isalnum():
         return None
     end = q
-    for ch in ((b",", b"$", b"\r", b"\t") if fixed else (b"$", b"*", b"\r", b" ", b"\t")):
-        if ch in absent:
-            continue
+    for ch in ((b",", b"$") if fixed else (b"$", b"*", b" ")):
         f = data.find(ch, p, end)
         if f >= 0:                              # end before the entry that holds it
             end = data.rfind(b"\n", p, f) + 1

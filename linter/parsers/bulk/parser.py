@@ -152,9 +152,7 @@ def _scan(st: _State, path: str, display: str, src, mode: str) -> None:
         lo_byte = e + 1 if e >= 0 else len(raw)
     runs: list = []
     if mode == "bulk" or begin is not None:
-        # no TAB is left (read as commas) and no CR (line ends are normalised, or a mapped file has none)
-        pieces, runs = carve(raw, lo_byte, buffers.count(raw, b"\n", 0, lo_byte),
-                             lambda *a: accept_run(ELEMENTS, *a), absent=b"\r\t")
+        pieces, runs = carve(raw, lo_byte, buffers.count(raw, b"\n", 0, lo_byte), lambda *a: accept_run(ELEMENTS, *a))
     if runs:
         for r in runs:
             st.runs.setdefault(r.name, []).append((raw, r, display))
@@ -245,14 +243,10 @@ def _include(st: _State, written: str, line: int, display: str, path: str, mode:
         model.issues.append(Issue("include-unreadable", f"included file '{written}': {exc.message}", loc,
                                   data={"include": written}))
         return
-    try:
-        if mode == "exec" and not _BEGIN.search(src.data):
-            _scan(st, res.path, res.path, src, "exec")
-        else:
-            _scan(st, res.path, res.path, src, "exec" if mode == "exec" else "bulk")
-    except SourceError as exc:          # changed while it was read
-        model.issues.append(Issue("include-unreadable", f"included file '{written}': {exc.message}", loc,
-                                  data={"include": written}))
+    if mode == "exec" and not _BEGIN.search(src.data):
+        _scan(st, res.path, res.path, src, "exec")
+    else:
+        _scan(st, res.path, res.path, src, "exec" if mode == "exec" else "bulk")
 
 
 def _bulk_lines(st: _State, lines: Lines, data: bytes, lo: int, hi: int, display: str, path: str) -> None:

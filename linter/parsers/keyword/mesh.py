@@ -225,25 +225,13 @@ def _all_nodes(ranges) -> tuple[np.ndarray, np.ndarray]:
     total = sum(buffers.count(d, b"\n", s, e) + 1 for d, s, e in ranges)     # at least the data lines
     gid, xyz, n = np.zeros(total, dtype=np.int64), np.zeros((3, total)).T, 0
     for d, s, e in ranges:                  # filled piece by piece: no full-size temporary
-        for a, b in _line_pieces(d, s, e, rows.PIECE):
-            tab = plain_rows(d[a:b], 4)
+        for piece, _last in rows.pieces(d, s, e, raw=True):
+            tab = plain_rows(piece, 4)
             if tab is None:
-                tab = rows.node_table(rows.compact(d[a:b]))
+                tab = rows.node_table(rows.compact(piece))
             gid[n:n + tab.shape[0]], xyz[n:n + tab.shape[0]] = rows.to_int(tab[:, 0]), tab[:, 1:]
             n += tab.shape[0]
-            buffers.release(d, a, b)         # a mapped file: the piece's pages go back
     return gid[:n], xyz[:n]
-
-
-def _line_pieces(data: bytes, start: int, end: int, size: int):
-    """Byte ranges of about ``size`` bytes covering ``data[start:end]``, cut after line ends."""
-    at = start
-    while at < end:
-        stop = end if end - at <= size else data.rfind(b"\n", at, at + size) + 1
-        if stop <= at:
-            stop = data.find(b"\n", at + size, end) + 1 or end
-        yield at, stop
-        at = stop
 
 
 def plain_rows(chunk: bytes, width: int) -> Optional[np.ndarray]:

@@ -31,11 +31,7 @@ _ONLY_COMMAS = re.compile(rb"(?m)^,+\n")
 def compact(chunk: bytes) -> bytes:
     """The data lines of a chunk as CalculiX sees them: no blanks or tabs, no comment, blank or comma-only
     line, one trailing comma per line removed; every line ends with a newline (b"" when there is none)."""
-    c = chunk.translate(None, b" \t\r")
-    if not c.endswith(b"\n"):
-        c += b"\n"
-    if b"*" in c:                                 # one-byte searches are the fast ones
-        c = _drop_comments(c)
+    c = _stripped(chunk)
     b = np.frombuffer(c, np.uint8)
     comma, nl = b == 44, b == 10
     lead = bool(comma[:1].any()) or bool((nl[:-1] & comma[1:]).any())      # a line starts with a comma
@@ -50,6 +46,16 @@ def compact(chunk: bytes) -> bytes:
         while b"\n\n" in c:
             c = c.replace(b"\n\n", b"\n")
         c = c[1:] if c.startswith(b"\n") else c
+    return c
+
+
+def _stripped(chunk: bytes) -> bytes:
+    """The chunk without blanks, tabs, CRs and ``**`` lines; every line ends with a newline."""
+    c = chunk.translate(None, b" \t\r")
+    if not c.endswith(b"\n"):
+        c += b"\n"
+    if b"*" in c:                                 # one-byte searches are the fast ones
+        c = _drop_comments(c)
     return c
 
 
@@ -72,11 +78,7 @@ def line_fields(chunk: bytes) -> np.ndarray:
     """``fields_per_line(compact(chunk))`` without building the compacted text's trailing-comma copy: the
     fields of each data line counted from its commas (one trailing comma not counted; empty, comment and
     comma-only lines left out)."""
-    c = chunk.translate(None, b" \t\r")
-    if not c.endswith(b"\n"):
-        c += b"\n"
-    if b"*" in c:
-        c = _drop_comments(c)
+    c = _stripped(chunk)
     b = np.frombuffer(c, np.uint8)
     nl = np.flatnonzero(b == 10)                  # c ends with a line end: every line holds its own
     if not nl.size:
