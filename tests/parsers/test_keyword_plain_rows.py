@@ -13,8 +13,9 @@ from linter.parsers.keyword import rows
 
 WIDTH = 9          # C3D8: element number and 8 nodes
 
-SEPARATORS = st.sampled_from([",", ", ", " ,", ",\t", " , "])
-NUMBER = st.one_of(st.integers(1, 10**7).map(str), st.sampled_from(["-1", "0", "+7", "1 2", "1.5", "", "x"]))
+SEPARATORS = st.sampled_from([",", ", ", " ,", ",\t", " , ", "\t,  ", ",\r"])
+NUMBER = st.one_of(st.integers(1, 10**7).map(str),
+                   st.sampled_from(["-1", "0", "+7", "1 2", "1\t2", "- 3", "1.5", "", " ", "x", "\x0b4", "5\x0c"]))
 
 
 @st.composite
@@ -28,7 +29,7 @@ def lines(draw):
         if kind == "odd":
             fields[draw(st.integers(0, n - 1))] = draw(NUMBER)
         text = sep.join(fields) + ("," if kind == "trailing" else "")
-        out.append({"comment": "** pv40 casing", "empty": ""}.get(kind, text) + draw(st.sampled_from(["", " ", "\t"])))
+        out.append({"comment": "** pv40 casing", "empty": ""}.get(kind, text) + draw(st.sampled_from(["", " ", "\t", "\r", " \r"])))
     return "\n".join(out) + draw(st.sampled_from(["\n", ""]))
 
 
@@ -37,6 +38,8 @@ def lines(draw):
 @example("1, 2, 3, 4, 5, 6, 7, 8, -1\n2, 2, 3, 4, 5, 6, 7, 8, 9\n")    # a node number equal to the line-end mark
 @example("1,2,3,4,5,6,7,8\n2,2,3,4,5,6,7,8,9,10\n")                 # short and long lines, equal totals
 @example("1,2,3,4,5,6,7,8,9")                                          # no final line end
+@example("1, 2, 3, 4, 5, 6, 7, 8, 9 \r\n2 ,2 ,3 ,4 ,5 ,6 ,7 ,8 ,9\t\n")  # blanks, tabs, CRs around numbers
+@example("1, 2, 3, 4, 5, 6, 7, 8, 9\n2, 2, 3, 4, 5, 6, 7, 8, \n")       # a blank last field
 def test_one_call_reading_agrees_with_the_general_reading(text):
     raw = text.encode()
     got = rows.plain_int_rows(raw, WIDTH)

@@ -263,12 +263,12 @@ def plain_int_rows(raw: bytes, width: int) -> Optional[np.ndarray]:
     The line ends become a marker number, the whole text is read by numpy's C parser in one call, and
     the table is exact only if the marker closes every row and appears nowhere else: ``lines`` markers in
     the last column and ``lines`` in all (a data field equal to the marker gives one more: None)."""
-    flat = raw.translate(None, b" \t\r")
-    if not flat.endswith(b"\n"):
-        flat += b"\n"
+    flat = raw if raw.endswith(b"\n") else raw + b"\n"
     lines = flat.count(b"\n")
-    if not lines or b"*" in flat:
+    if not lines or b"*" in flat or b"\x0b" in flat or b"\x0c" in flat:
         return None
+    # blanks, tabs and CRs stay: numpy skips them around a number and stops at one inside a number
+    # ("1 2", which CalculiX reads as 12), and a field of blanks only is an empty field: both decline
     flat = flat.replace(b"\n", b",%d," % _MARK)[:-1]
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
