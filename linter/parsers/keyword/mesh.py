@@ -12,7 +12,7 @@ from typing import Optional
 import numpy as np
 
 from ...model import ElementBlock, ElementSet, Lazy, Loc, norm_key
-from .. import buffers, sampling
+from .. import aligned, buffers, sampling
 from . import rows
 from .lex import KeywordLine, Reader, is_int
 
@@ -226,7 +226,9 @@ def _all_nodes(ranges) -> tuple[np.ndarray, np.ndarray]:
     gid, xyz, n = np.zeros(total, dtype=np.int64), np.zeros((3, total)).T, 0
     for d, s, e in ranges:                  # filled piece by piece: no full-size temporary
         for piece, _last in rows.pieces(d, s, e, raw=True):
-            tab = plain_rows(piece, 4)
+            tab = aligned.rows(piece, 4)
+            if tab is None:
+                tab = plain_rows(piece, 4)
             if tab is None:
                 tab = rows.node_table(rows.compact(piece))
             gid[n:n + tab.shape[0]], xyz[n:n + tab.shape[0]] = rows.to_int(tab[:, 0]), tab[:, 1:]
