@@ -129,16 +129,19 @@ _ALIGN = 64
 
 def _store(fd: int, arrays: tuple) -> None:
     """Write the arrays into the shared memory file: the header length (8 bytes), the header (per array:
-    dtype, shape, memory order, offset), then each array's bytes (a column-major array as its transpose, so
-    that it comes back column-major, as the caller made it)."""
+    dtype, shape, memory order, offset), then each array's bytes. A 2-d array whose columns are each
+    contiguous (column-major, or the first rows of a column-major table) is written as its transpose, so
+    that it comes back column-major, as the caller made it; each array is copied once, straight into the
+    file."""
     import numpy as np
 
-    order = ["F" if a.ndim > 1 and a.flags.f_contiguous and not a.flags.c_contiguous else "C" for a in arrays]
-    flat = [np.ascontiguousarray(a.T if o == "F" else a) for a, o in zip(arrays, order)]
-    room = 4096 + 256 * len(flat)                   # the header's place, before the first array
+    arrays = [np.asarray(a) for a in arrays]
+    order = ["F" if a.ndim == 2 and a.strides[0] == a.itemsize and not a.flags.c_contiguous else "C"
+             for a in arrays]
+    room = 4096 + 256 * len(arrays)                 # the header's place, before the first array
     at, spec = room, []
-    for a, o in zip(flat, order):
-        spec.append([a.dtype.str, list(a.T.shape if o == "F" else a.shape), o, at])
+    for a, o in zip(arrays, order):
+        spec.append([a.dtype.str, list(a.shape), o, at])
         at += -(-a.nbytes // _ALIGN) * _ALIGN
     head = json.dumps(spec).encode()
     if _HEAD.size + len(head) > room:
@@ -146,10 +149,11 @@ def _store(fd: int, arrays: tuple) -> None:
     os.ftruncate(fd, at)
     with mmap.mmap(fd, at) as mm:
         mm[:_HEAD.size + len(head)] = _HEAD.pack(len(head)) + head
-        for a, (_d, _s, _o, off) in zip(flat, spec):
+        for a, (_d, _s, o, off) in zip(arrays, spec):
             if a.nbytes:
-                dst = np.frombuffer(mm, dtype=np.uint8, count=a.nbytes, offset=off)
-                dst[:] = a.reshape(-1).view(np.uint8)
+                src = a.T if o == "F" else a
+                dst = np.frombuffer(mm, dtype=a.dtype, count=a.size, offset=off).reshape(src.shape)
+                dst[...] = src
                 del dst
 
 

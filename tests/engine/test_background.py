@@ -21,10 +21,12 @@ def allowed(monkeypatch):
 
 def arrays():
     rng = np.random.default_rng(3)
-    xyz = np.zeros((3, 1000)).T                      # column-major, as the node reader makes it
+    # the first rows of a column-major table, as the node reader makes it (it allots a row per line end
+    # and one more): each column contiguous, the table itself neither C- nor F-contiguous
+    xyz = np.zeros((3, 1001)).T[:1000]
     xyz[:] = rng.uniform(-1, 1, (1000, 3))
-    return (np.arange(5, 1005, dtype=np.int64), xyz, np.zeros((0, 4), dtype=np.int32),
-            rng.integers(0, 9, (7, 3)).astype(np.int16))
+    strided = rng.integers(0, 9, (14, 3)).astype(np.int16)[::2]          # neither: copied as it reads
+    return (np.arange(5, 1005, dtype=np.int64), xyz, np.zeros((0, 4), dtype=np.int32), strided)
 
 
 def test_the_helper_sends_back_what_the_function_returns(allowed):
