@@ -26,6 +26,7 @@ from ..buffers import release
 MAX_FIELDS = 16                 # CalculiX keeps at most 16 fields of a line
 PIECE = 8 << 20
 _ONLY_COMMAS = re.compile(rb"(?m)^,+\n")
+_NOT_COMMA_OR_LINE_END = bytes(i for i in range(256) if i not in (10, 44))
 
 
 def compact(chunk: bytes) -> bytes:
@@ -83,13 +84,14 @@ def line_fields(chunk: bytes) -> np.ndarray:
     nl = np.flatnonzero(b == 10)                  # c ends with a line end: every line holds its own
     if not nl.size:
         return np.zeros(0, dtype=np.int64)
-    starts = np.concatenate(([0], nl[:-1] + 1))
-    # (a line's commas fit in int32 below 2 GiB of text; summing in int32 is the quicker reduction)
-    commas = np.add.reduceat((b == 44).view(np.int8), starts, dtype=np.int32 if b.size < 2**31 else np.int64)
-    length = nl - starts
+    # the commas of each line: the text cut down to its commas and line ends, where line i is what lies
+    # between line ends i-1 and i (one C pass; a per-line sum over the whole text took twice as long)
+    ends = np.flatnonzero(np.frombuffer(c.translate(None, _NOT_COMMA_OR_LINE_END), np.uint8) == 10)
+    commas = np.diff(ends, prepend=-1) - 1
+    length = np.diff(nl, prepend=-1) - 1
     trailing = (length > 0) & (b[nl - 1] == 44)
     keep = (length > 0) & (commas < length)
-    return (commas + 1 - trailing)[keep].astype(np.int64)
+    return (commas + 1 - trailing)[keep]
 
 
 def fields_per_line(c: bytes) -> np.ndarray:
