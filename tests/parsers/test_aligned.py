@@ -131,3 +131,29 @@ def test_fields_beyond_the_width_are_checked_and_missing_ones_read_zero():
     got = aligned.rows(raw, 4)
     np.testing.assert_array_equal(got, [[1, 1.5, 2.5, 0], [2, 3.5, 4.5, 0]])
     assert aligned.rows(b"1, 1.5, 2.5, 3.5, x\n", 4) is None
+
+
+def test_node_blocks_of_the_corpus_are_read_as_the_general_reader_reads_them(corpus_dir):
+    """Real decks written by others: every node block piece the reader answers is the general reader's table,
+    bit for bit, and it answers for some (on 2026-12-05: 103 of the 170 pieces, 0 differences)."""
+    import warnings
+
+    from linter.parsers import ParseOptions
+    from linter.parsers.keyword import parser as K
+
+    decks = sorted((corpus_dir / "keyword").glob("*.inp"))
+    if not decks:
+        pytest.skip("no keyword decks in the corpus")
+    answered = 0
+    for path in decks:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            model = K.parse(str(path), ParseOptions())
+        for data, start, end in model.extras.get("_node_ranges", []):
+            for piece, _last in rows.pieces(data, start, end, raw=True):
+                got = aligned.rows(piece, 4)
+                if got is None:
+                    continue
+                answered += 1
+                np.testing.assert_array_equal(bits(got), bits(rows.node_table(rows.compact(piece))), str(path))
+    assert answered > 0
