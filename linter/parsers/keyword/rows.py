@@ -258,9 +258,9 @@ _MARK = -1
 
 def plain_int_rows(raw: bytes, width: int) -> Optional[np.ndarray]:
     """(lines, width) int64 table of raw data lines that each hold exactly ``width`` integers separated
-    by commas (blanks and tabs anywhere, as CalculiX removes them); None for anything else (a line with
-    another field count, a trailing comma, a blank field, a comment or empty line, a number that is not an
-    integer), which :func:`compact` and :func:`line_rows` then read.
+    by commas (blanks, tabs and CRs around the numbers); None for anything else (a line with another field
+    count, a trailing comma, a blank field, a blank inside a number, a comment or empty line, a number that
+    is not an integer), which :func:`compact` and :func:`line_rows` then read as CalculiX does.
 
     The line ends become a marker number, the whole text is read by numpy's C parser in one call, and
     the table is exact only if the marker closes every row and appears nowhere else: ``lines`` markers in
