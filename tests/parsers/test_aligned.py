@@ -83,6 +83,7 @@ MUTANTS = b"0123456789 +-.eEdD,x\t*"
 @settings(max_examples=300, deadline=None)
 @given(pos=st.integers(0, 10 ** 6), byte=st.sampled_from(list(MUTANTS)), fmt=st.sampled_from(FIXED))
 @example(pos=3, byte=ord(" "), fmt="{:15.8e}")
+@example(pos=160, byte=ord("1"), fmt="{:16.7E}")     # the exponent letter of line 3 made a digit
 def test_one_changed_byte_is_read_as_the_general_reader_reads_it_or_declined(pos, byte, fmt):
     xyz = coordinates(3, 40, 10.0)
     raw = bytearray(lines(np.arange(1, 41), xyz, fmt, ", ", "{:6d}"))
